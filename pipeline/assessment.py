@@ -1,0 +1,68 @@
+"""Assessment: pass or flag each criterion, the governing case, and the scheme status.
+
+Collects every :class:`~swayscreen.pipeline.plugin_api.Check` from results whose name
+ends in ``_checks``. Status:
+
+* ``"pass"``: every check passes (or the building is below the wind-sensitivity height);
+* ``"flagged"``: at least one check fails;
+* ``"incomplete"``: the building is wind-sensitive but no comfort or drift check could be
+  computed (for example no lateral system could be read); treated as flagged by the CLI,
+  because a scheme cannot be cleared on missing results.
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from .plugin_api import Check
+
+__all__ = ["Assessment", "assess"]
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """Attributes:
+    status: "pass", "flagged" or "incomplete".
+    checks: all checks, in plugin order.
+    governing: the failing check with the largest value/limit ratio, else the passing
+        check closest to its limit (None when there are no checks).
+    reasons: plain sentences explaining the status (not wind-sensitive, missing results).
+    """
+
+    status: str
+    checks: tuple[Check, ...]
+    governing: Check | None
+    reasons: tuple[str, ...] = ()
+
+    @property
+    def flagged(self) -> tuple[Check, ...]:
+        return tuple(c for c in self.checks if not c.passes)
+
+
+def assess(
+    results: Mapping[str, Any],
+    *,
+    height_m: float | None,
+    min_wind_height_m: float,
+    missing: tuple[str, ...] = (),
+) -> Assessment:
+    checks: list[Check] = []
+    for name, value in results.items():
+        if name.endswith("_checks") and value:
+            checks.extend(c for c in value if isinstance(c, Check))
+    reasons = list(missing)
+    governing = max(checks, key=lambda c: c.ratio) if checks else None
+    if height_m is not None and height_m < min_wind_height_m:
+        reasons.insert(
+            0,
+            f"height {height_m:.1f} m is below {min_wind_height_m:.0f} m: not wind-sensitive for comfort "
+            "(checks shown for information only)",
+        )
+        return Assessment("pass", tuple(checks), governing, tuple(reasons))
+    if any(not c.passes for c in checks):
+        return Assessment("flagged", tuple(checks), governing, tuple(reasons))
+    if not checks:
+        reasons.append("no comfort or drift check could be computed; the scheme cannot be cleared")
+        return Assessment("incomplete", (), None, tuple(reasons))
+    return Assessment("pass", tuple(checks), governing, tuple(reasons))

@@ -1,0 +1,92 @@
+"""The ``swayscreen`` command line: a thin layer that parses arguments and calls plain functions.
+
+Exit codes: 0 every check passes; 1 something is flagged (or a wind-sensitive scheme could
+not be cleared); 2 unusable input, settings or plugins. A user mistake never prints a
+traceback: set ``SWAYSCREEN_DEBUG=1`` to see one for an internal error.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+
+from . import __version__
+from .errors import EXIT_FLAGGED, EXIT_INPUT, EXIT_PASS, InputError, PluginError
+
+__all__ = ["main", "build_parser"]
+
+CAUTION = (
+    "CAUTION: swayscreen gives a screening estimate, not a design. Results must be confirmed by a "
+    "licensed structural engineer under local codes, and wind-sensitive buildings by a wind specialist."
+)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="swayscreen",
+        description="Screen tall-building schemes in IFC models for wind sway, occupant comfort and drift.",
+        epilog=CAUTION,
+    )
+    p.add_argument("--version", action="version", version=f"swayscreen {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+
+    t = sub.add_parser("takeoff", help="print what was read from the model: storeys, slabs, walls, cores, masses")
+    t.add_argument("model", help="IFC file")
+    t.add_argument("--json", action="store_true", help="print JSON to stdout instead of tables")
+    t.add_argument("--settings", metavar="FILE", help="settings TOML (see `swayscreen settings`)")
+    t.add_argument("--requirements", action="store_true",
+                   help="check the model against the bundled IDS file of what a full screening needs")
+
+    s = sub.add_parser("screen", help="screen a model: periods, wind accelerations, comfort, drift, dampers")
+    s.add_argument("model", help="IFC file")
+    s.add_argument("--settings", metavar="FILE", help="settings TOML (see `swayscreen settings`)")
+    s.add_argument("--json", action="store_true", help="print a JSON summary to stdout")
+    s.add_argument("--out", metavar="DIR", help="write annotated IFC, report, summary and BCF to DIR")
+    s.add_argument("--history", metavar="FILE", help="append key figures to FILE and show the change since the last run")
+
+    sub.add_parser("settings", help="print the commented default settings file")
+
+    pl = sub.add_parser("plugins", help="list installed estimator plugins")
+    pl.add_argument("--json", action="store_true")
+
+    d = sub.add_parser("demo", help="screen the bundled sample tower and write every output to a folder")
+    d.add_argument("--out", metavar="DIR", default="swayscreen-demo", help="output folder (default: %(default)s)")
+
+    b = sub.add_parser("batch", help="screen several schemes in parallel and rank them")
+    b.add_argument("models", nargs="+", help="IFC files")
+    b.add_argument("--settings", metavar="FILE")
+    b.add_argument("--out", metavar="DIR", default="swayscreen-batch", help="output folder (default: %(default)s)")
+    b.add_argument("--jobs", type=int, default=0, help="worker processes (default: all cores)")
+    b.add_argument("--scheduler", metavar="ADDRESS",
+                   help="send models to a Dask distributed scheduler instead (needs the 'cluster' extra)")
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = build_parser().parse_args(argv)
+    try:
+        from . import commands
+
+        handler = getattr(commands, f"cmd_{args.command}")
+        return int(handler(args))
+    except (InputError, PluginError) as exc:
+        print(f"swayscreen: error: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("swayscreen: interrupted; no partial output was left", file=sys.stderr)
+        return EXIT_INPUT
+    except BrokenPipeError:
+        return EXIT_PASS
+    except Exception as exc:  # pragma: no cover - last line of defence for an unattended step
+        if os.environ.get("SWAYSCREEN_DEBUG"):
+            raise
+        print(f"swayscreen: internal error: {type(exc).__name__}: {exc} "
+              "(set SWAYSCREEN_DEBUG=1 for details and please report it)", file=sys.stderr)
+        return EXIT_INPUT
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,161 @@
+"""The screening pipeline: read -> derive -> plugins -> assess, for every building in a file.
+
+Each arrow is a plain function over frozen dataclasses. Only :func:`read_model` touches
+the IFC file; writing outputs is separate (:mod:`.outputs`).
+"""
+from __future__ import annotations
+
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any
+
+from .assessment import Assessment, assess
+from .core_settings import CORE_SECTIONS
+from .deriving import DerivedModel, derive_stick
+from .plugin_api import Context
+from .reading import read_model
+from .registry import discover, order, settings_sections
+from .settings import Settings, load_settings
+from .takeoff import BuildingTakeoff, Takeoff
+
+__all__ = ["BuildingScreening", "ScreeningRun", "load_plugins_and_settings", "screen_building", "screen_file"]
+
+
+@dataclass(frozen=True)
+class PluginFailure:
+    plugin: str
+    message: str
+
+
+@dataclass(frozen=True)
+class BuildingScreening:
+    """Everything computed for one building.
+
+    Attributes:
+        building: the takeoff of this building.
+        derived: the stick model (or None) with materials used, warnings and missing results.
+        results: plugin results by name (read-only).
+        failures: plugins that raised (their dependants are skipped and listed in ``skipped``).
+        skipped: plugins not run, with the reason.
+        assessment: pass / flagged / incomplete with the governing check.
+        timings_s: seconds per stage and plugin (for the benchmark).
+    """
+
+    building: BuildingTakeoff
+    derived: DerivedModel
+    results: Any
+    failures: tuple[PluginFailure, ...]
+    skipped: tuple[str, ...]
+    assessment: Assessment
+    timings_s: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class ScreeningRun:
+    takeoff: Takeoff
+    settings: Settings
+    buildings: tuple[BuildingScreening, ...]
+    plugins: tuple[Any, ...]
+    timings_s: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def status(self) -> str:
+        statuses = {b.assessment.status for b in self.buildings}
+        if "flagged" in statuses:
+            return "flagged"
+        if "incomplete" in statuses:
+            return "incomplete"
+        return "pass"
+
+
+def load_plugins_and_settings(settings_path: str | Path | None, plugins: Sequence[Any] | None = None):
+    """Discover (or take) plugins, order them, and read settings against all their sections."""
+    found = list(plugins) if plugins is not None else discover()
+    ordered = order(found)
+    sections = settings_sections(ordered)
+    return ordered, load_settings(settings_path, sections)
+
+
+def screen_building(building: BuildingTakeoff, settings: Settings, plugins: Sequence[Any]) -> BuildingScreening:
+    """Derive the stick model of one building and run the ordered plugins over it."""
+    timings: dict[str, float] = {}
+    t0 = time.perf_counter()
+    derived = derive_stick(building, settings)
+    timings["derive"] = time.perf_counter() - t0
+    ctx = Context(derived.stick, building, settings)
+    results: dict[str, Any] = {}
+    failures: list[PluginFailure] = []
+    skipped: list[str] = []
+    unavailable: set[str] = set()
+    for plugin in plugins:
+        blocked = [r for r in plugin.needs if r in unavailable or r not in results]
+        if derived.stick is None and not getattr(plugin, "runs_without_stick", False):
+            skipped.append(f"{plugin.name}: no stick model ({'; '.join(derived.missing) or 'no lateral system'})")
+            unavailable.update(plugin.provides)
+            continue
+        if blocked:
+            skipped.append(f"{plugin.name}: needs {', '.join(blocked)}, which could not be computed")
+            unavailable.update(plugin.provides)
+            continue
+        t1 = time.perf_counter()
+        try:
+            out = plugin.run(ctx.with_results(results))
+        except Exception as exc:  # an estimator failing must not stop the screening
+            failures.append(PluginFailure(plugin.name, f"{type(exc).__name__}: {exc}"))
+            unavailable.update(plugin.provides)
+            continue
+        finally:
+            timings[f"plugin:{plugin.name}"] = time.perf_counter() - t1
+        missing = set(plugin.provides) - set(out)
+        extra = set(out) - set(plugin.provides)
+        if missing or extra:
+            failures.append(PluginFailure(
+                plugin.name, f"returned {sorted(out)} but declares provides {list(plugin.provides)}"))
+            unavailable.update(plugin.provides)
+            continue
+        results.update(out)
+    height = derived.stick.height_m if derived.stick is not None else _takeoff_height(building)
+    missing_notes = tuple(derived.missing) + tuple(f"{f.plugin} failed: {f.message}" for f in failures)
+    assessment = assess(
+        results,
+        height_m=height,
+        min_wind_height_m=settings["levels"].min_wind_height_m,
+        missing=missing_notes,
+    )
+    return BuildingScreening(
+        building, derived, MappingProxyType(results), tuple(failures), tuple(skipped), assessment, timings
+    )
+
+
+def _takeoff_height(building: BuildingTakeoff) -> float | None:
+    above = building.above_grade
+    if not above:
+        return None
+    top = max(s.elevation_m + s.height_m for s in above)
+    return top - building.ground_elevation_m
+
+
+def screen_file(
+    path: str | Path,
+    settings_path: str | Path | None = None,
+    *,
+    plugins: Sequence[Any] | None = None,
+    settings: Settings | None = None,
+) -> ScreeningRun:
+    """Read one IFC file and screen every building in it."""
+    timings: dict[str, float] = {}
+    ordered, loaded = load_plugins_and_settings(settings_path, plugins)
+    settings = settings or loaded
+    t0 = time.perf_counter()
+    takeoff = read_model(path, settings["levels"])
+    timings["read"] = time.perf_counter() - t0
+    buildings = tuple(screen_building(b, settings, ordered) for b in takeoff.buildings)
+    return ScreeningRun(takeoff, settings, buildings, tuple(ordered), timings)
+
+
+def default_sections() -> dict[str, type]:
+    """Core sections only (for commands that need no plugins)."""
+    return dict(CORE_SECTIONS)
