@@ -1,0 +1,400 @@
+"""Mass and stiffness matrices of the stick model (pseudo-3D tall-building idealisation).
+
+The idealisation is the classical one for tall buildings with rigid floor diaphragms
+(B. Stafford Smith and A. Coull, *Tall Building Structures: Analysis and Design*, Wiley,
+1991, chapters on the analysis of lateral-load systems and three-dimensional behaviour):
+
+* every floor is rigid in plan and has three freedoms about the common origin
+  ``o = StickModel.origin_m``: translations x, y (m) and a twist theta (rad, counter-clockwise
+  positive). Global index of floor ``i`` (0 = lowest floor above the base): ``3*i`` x,
+  ``3*i+1`` y, ``3*i+2`` twist (see :func:`dof`);
+* a point (px, py) of floor i moves by ``ux - theta*(py - oy)``, ``uy + theta*(px - ox)``;
+* each cantilever system (``Segment.kind`` "core" or "wall", grouped by ``system_id`` and
+  stacked by ``level_index``) is a flexure-and-shear (Timoshenko) beam in the two bending
+  planes plus a St Venant torsion rod; the beam's rotations are condensed out statically
+  onto the floor translations;
+* each frame segment (``kind`` "frame") is a set of storey springs k_x, k_y at its
+  ``centre_m`` and k_twist, between floor i-1 (or the base) and floor i.
+
+Units: SI throughout. Matrices are ``3N x 3N`` numpy arrays (N = number of floors):
+mass in kg, kg m (coupling) and kg m^2 (twist); stiffness in N/m, N (coupling) and N m/rad.
+
+Beam element. For one segment of length L the element is built from its exact
+flexibility as a cantilever (tip force P and tip "moment" M conjugate to the section
+slope beta)::
+
+    u_tip    = L^3/3 D^-1 P + L^2/2 D^-1 M + L S^-1 P
+    beta_tip = L^2/2 D^-1 P + L   D^-1 M
+
+with the bending matrix ``D = [[EI_yy, EI_xy], [EI_xy, EI_xx]]`` acting on the sway
+curvatures (u_x'', u_y'') (normal strain -(x u_x'' + y u_y'')) and the shear matrix
+``S = diag(GA_x, GA_y)``; the stiffness is ``T^T F^-1 T`` with T the rigid-body
+transfer from the fixed end. In one plane this is exactly the textbook Timoshenko
+element with phi = 12 EI / (GA L^2) (no rotary inertia; see :func:`planar_timoshenko_element`),
+and where the shear stiffness is the same in both directions it equals the route
+"rotate to the principal axes of D, build two planar stacks, rotate back". The matrix
+form is used because, with GA_x != GA_y, the shear matrix is not diagonal in the
+principal bending axes, and the rotate-and-build route would drop that coupling.
+A shear stiffness of zero means "shear deformation neglected" (Euler-Bernoulli).
+
+Supports. A stack whose lowest segment has ``level_index`` 0 is fixed at the base
+(translations and rotations zero). A stack that starts higher (or resumes after a storey
+with no segment of that system) has its bottom translation tied to the floor below its
+first segment and its bottom rotation free (pinned on the unmodelled transfer structure);
+:func:`assembly_notes` reports every such case. A stack that stops below the top simply
+ends with a free rotation at its top floor.
+
+P-Delta (:func:`geometric_stiffness`). The gravity load carried through storey i is the
+weight of floors i..N-1, distributed in plan like their masses (each floor's weight taken
+straight down). A vertical member carrying P at plan point p, drifting by
+d = du + dtheta x (p - o) over the storey height h, contributes -P/h |d|^2 / 2 to the
+potential energy; summed over the storey this gives::
+
+    K_G(storey i) = -(g / h_i) * B_i^T ( sum_{j >= i} M_j ) B_i
+
+where M_j is floor j's 3x3 mass matrix about the origin (below) and B_i maps the floor
+freedoms to the storey drift q_i - q_{i-1}. In words: -(W_above/h) on the x and y
+drifts, -(W_above r^2/h) on the twist drift with r the polar radius of gyration of the
+weight above about the origin (r^2 = sum (J_j + m_j d_j^2) / sum m_j), and coupling
+terms from the eccentricity of that weight. This is the mass-based P-Delta formulation
+of E. L. Wilson and A. Habibullah, "Static and dynamic analysis of multi-story buildings,
+including P-Delta effects", Earthquake Spectra 3(2), 1987 (from memory).
+
+Floor mass matrix about the origin (kinetic energy of a rigid plate; parallel-axis
+theorem J_o = J_c + m d^2), with (dx, dy) = mass centre - origin::
+
+    [[ m,      0,      -m dy          ],
+     [ 0,      m,       m dx          ],
+     [ -m dy,  m dx,    J_c + m(dx^2 + dy^2) ]]
+"""
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from collections.abc import Sequence
+
+import numpy as np
+from scipy.linalg import cho_factor, cho_solve, LinAlgError
+
+from .errors import InputError
+from .stick import Level, Segment, StickModel
+
+__all__ = [
+    "G_STANDARD",
+    "dof",
+    "floor_mass_matrix",
+    "mass_matrix",
+    "stiffness_matrix",
+    "geometric_stiffness",
+    "planar_timoshenko_element",
+    "beam_element",
+    "cantilever_runs",
+    "assembly_notes",
+    "is_positive_definite",
+]
+
+G_STANDARD = 9.81  # m/s^2, as used throughout the project (methods.md conventions)
+
+_COMP = {"x": 0, "y": 1, "twist": 2, "theta": 2, "t": 2}
+CANTILEVER_KINDS = ("core", "wall")
+FRAME_KINDS = ("frame",)
+
+
+def dof(i: int, comp: str | int) -> int:
+    """Global freedom index of floor ``i``: comp "x" (0), "y" (1) or "twist"/"theta" (2)."""
+    if isinstance(comp, str):
+        try:
+            c = _COMP[comp]
+        except KeyError:
+            raise ValueError(f"unknown freedom {comp!r}; use 'x', 'y' or 'twist'") from None
+    else:
+        c = int(comp)
+        if c not in (0, 1, 2):
+            raise ValueError(f"freedom component must be 0, 1 or 2, got {comp!r}")
+    if i < 0:
+        raise ValueError(f"floor index must be >= 0, got {i}")
+    return 3 * i + c
+
+
+def _where(stick: StickModel) -> str:
+    return f"stick model of building {stick.building_name or stick.building_id!r}"
+
+
+def _finite(*values: float) -> bool:
+    return all(math.isfinite(float(v)) for v in values)
+
+
+def _check_level(stick: StickModel, i: int, lv: Level) -> None:
+    if not _finite(lv.mass_kg, lv.polar_moment_kg_m2, *lv.mass_centre_m) or lv.mass_kg <= 0:
+        raise InputError(f"{_where(stick)}: floor {lv.name!r} has no positive finite mass ({lv.mass_kg!r} kg)")
+    if lv.polar_moment_kg_m2 <= 0:
+        raise InputError(
+            f"{_where(stick)}: floor {lv.name!r} has no positive polar mass moment ({lv.polar_moment_kg_m2!r} kg m^2)"
+        )
+
+
+def _check_segment(stick: StickModel, s: Segment) -> None:
+    where = f"{_where(stick)}: segment {s.system_id!r} at level index {s.level_index}"
+    if not 0 <= s.level_index < stick.n_levels:
+        raise InputError(f"{where}: level index outside 0..{stick.n_levels - 1}")
+    vals = (s.length_m, *s.centre_m, s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n,
+            s.gj_nm2, s.k_x_n_m, s.k_y_n_m, s.k_twist_nm_rad)
+    if not _finite(*vals):
+        raise InputError(f"{where}: non-finite stiffness or geometry")
+    if s.length_m <= 0:
+        raise InputError(f"{where}: length {s.length_m!r} m is not positive")
+    if s.kind in CANTILEVER_KINDS:
+        if s.ei_xx_nm2 <= 0 or s.ei_yy_nm2 <= 0 or s.ei_xx_nm2 * s.ei_yy_nm2 - s.ei_xy_nm2**2 <= 0:
+            raise InputError(f"{where}: bending stiffness (EI_xx, EI_yy, EI_xy) is not positive definite")
+        if s.ga_x_n < 0 or s.ga_y_n < 0 or s.gj_nm2 < 0:
+            raise InputError(f"{where}: negative shear or torsional stiffness")
+    elif s.kind in FRAME_KINDS:
+        if s.k_x_n_m < 0 or s.k_y_n_m < 0 or s.k_twist_nm_rad < 0:
+            raise InputError(f"{where}: negative storey spring stiffness")
+    else:
+        raise InputError(f"{where}: unknown kind {s.kind!r} (expected core, wall or frame)")
+
+
+def _check_stick(stick: StickModel) -> None:
+    if stick.n_levels == 0:
+        raise InputError(f"{_where(stick)}: no floors above the base")
+    if not _finite(*stick.origin_m):
+        raise InputError(f"{_where(stick)}: non-finite plan origin")
+    for i, lv in enumerate(stick.levels):
+        _check_level(stick, i, lv)
+    for s in stick.segments:
+        _check_segment(stick, s)
+
+
+# ----------------------------------------------------------------------------------- mass
+
+
+def floor_mass_matrix(level: Level, origin: Sequence[float]) -> np.ndarray:
+    """3x3 mass matrix of one rigid floor about ``origin`` (kg, kg m, kg m^2); see module doc."""
+    m = float(level.mass_kg)
+    dx = float(level.mass_centre_m[0]) - float(origin[0])
+    dy = float(level.mass_centre_m[1]) - float(origin[1])
+    jo = float(level.polar_moment_kg_m2) + m * (dx * dx + dy * dy)  # parallel-axis theorem
+    return np.array([[m, 0.0, -m * dy], [0.0, m, m * dx], [-m * dy, m * dx, jo]])
+
+
+def mass_matrix(stick: StickModel) -> np.ndarray:
+    """Lumped rigid-floor mass matrix (3N x 3N), symmetric positive definite."""
+    _check_stick(stick)
+    n = stick.n_levels
+    mm = np.zeros((3 * n, 3 * n))
+    for i, lv in enumerate(stick.levels):
+        mm[3 * i:3 * i + 3, 3 * i:3 * i + 3] = floor_mass_matrix(lv, stick.origin_m)
+    return mm
+
+
+# ------------------------------------------------------------------------------ elements
+
+
+def planar_timoshenko_element(ei: float, ga: float, length: float) -> np.ndarray:
+    """Textbook 2-node Timoshenko beam element in one plane, freedoms [u1, beta1, u2, beta2].
+
+    phi = 12 EI / (GA L^2) (``ga <= 0`` means shear deformation neglected, phi = 0);
+    no rotary inertia. E.g. J. S. Przemieniecki, *Theory of Matrix Structural Analysis*
+    (1968), sec. 5.6 (from memory). Units N/m, N, N m.
+    """
+    L = float(length)
+    phi = 12.0 * ei / (ga * L * L) if ga > 0 else 0.0
+    c = ei / (L**3 * (1.0 + phi))
+    return c * np.array([
+        [12.0, 6 * L, -12.0, 6 * L],
+        [6 * L, (4 + phi) * L * L, -6 * L, (2 - phi) * L * L],
+        [-12.0, -6 * L, 12.0, -6 * L],
+        [6 * L, (2 - phi) * L * L, -6 * L, (4 + phi) * L * L],
+    ])
+
+
+def beam_element(
+    ei_xx: float, ei_yy: float, ei_xy: float, ga_x: float, ga_y: float, length: float
+) -> np.ndarray:
+    """8x8 two-plane Timoshenko element, freedoms [u1x, u1y, b1x, b1y, u2x, u2y, b2x, b2y].
+
+    ``u`` are the sway translations and ``b`` the section slopes (conjugate to the bending
+    moments), node 1 at the bottom. Built from the exact cantilever flexibility (module
+    doc); ``ga_* <= 0`` means shear deformation neglected in that direction.
+    """
+    L = float(length)
+    dm = np.array([[ei_yy, ei_xy], [ei_xy, ei_xx]], dtype=float)
+    dinv = np.linalg.inv(dm)
+    sinv = np.diag([1.0 / ga_x if ga_x > 0 else 0.0, 1.0 / ga_y if ga_y > 0 else 0.0])
+    flex = np.block([
+        [L**3 / 3.0 * dinv + L * sinv, L**2 / 2.0 * dinv],
+        [L**2 / 2.0 * dinv, L * dinv],
+    ])
+    eye, zero = np.eye(2), np.zeros((2, 2))
+    # tip deformation relative to the rigid-body motion of node 1
+    t = np.block([[-eye, -L * eye, eye, zero], [zero, -eye, zero, eye]])
+    kff = np.linalg.inv(flex)
+    kff = 0.5 * (kff + kff.T)
+    return t.T @ kff @ t
+
+
+def _plan_map(centre: Sequence[float], origin: Sequence[float]) -> np.ndarray:
+    """2x3 map from floor freedoms (ux, uy, theta) to the translation of a plan point."""
+    dx = float(centre[0]) - float(origin[0])
+    dy = float(centre[1]) - float(origin[1])
+    return np.array([[1.0, 0.0, -dy], [0.0, 1.0, dx]])
+
+
+# ---------------------------------------------------------------------------- grouping
+
+
+def cantilever_runs(stick: StickModel) -> list[tuple[str, list[Segment]]]:
+    """Cantilever stacks: per ``system_id``, maximal runs of consecutive ``level_index``.
+
+    Returned as (system_id, segments bottom to top). Two segments of one system in the
+    same storey are an input error.
+    """
+    groups: dict[str, list[Segment]] = defaultdict(list)
+    for s in stick.segments:
+        if s.kind in CANTILEVER_KINDS:
+            groups[s.system_id].append(s)
+    runs: list[tuple[str, list[Segment]]] = []
+    for sid in sorted(groups):
+        segs = sorted(groups[sid], key=lambda s: s.level_index)
+        for a, b in zip(segs, segs[1:]):
+            if a.level_index == b.level_index:
+                raise InputError(
+                    f"{_where(stick)}: system {sid!r} has two segments at level index {a.level_index}"
+                )
+        run = [segs[0]]
+        for s in segs[1:]:
+            if s.level_index == run[-1].level_index + 1:
+                run.append(s)
+            else:
+                runs.append((sid, run))
+                run = [s]
+        runs.append((sid, run))
+    return runs
+
+
+def assembly_notes(stick: StickModel) -> tuple[str, ...]:
+    """Plain-language notes on support assumptions made while assembling (one line each)."""
+    notes = []
+    for sid, run in cantilever_runs(stick):
+        first, last = run[0], run[-1]
+        if first.level_index > 0:
+            below = stick.levels[first.level_index - 1].name
+            notes.append(
+                f"system {sid!r} starts at floor {below!r} (not at the base): assumed pinned there "
+                "(translation tied to that floor, rotation free)"
+            )
+        if last.level_index < stick.n_levels - 1:
+            notes.append(
+                f"system {sid!r} stops at floor {stick.levels[last.level_index].name!r} below the top"
+            )
+    return tuple(notes)
+
+
+# --------------------------------------------------------------------------- stiffness
+
+
+def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
+    """Assemble one cantilever run, condense its slopes, add to the global matrix."""
+    origin = stick.origin_m
+    a = run[0].level_index
+    fixed = a == 0
+    floors = list(range(a if fixed else a - 1, run[-1].level_index + 1))
+    fpos = {f: k for k, f in enumerate(floors)}
+    nq = 3 * len(floors)
+    nodes = len(run) + 1  # node 0 at the bottom
+    # slope freedoms: node 0 only when the bottom is pinned (free rotation)
+    bpos = {}
+    for node in range(nodes):
+        if node == 0 and fixed:
+            continue
+        bpos[node] = nq + 2 * len(bpos)
+    nloc = nq + 2 * len(bpos)
+    kl = np.zeros((nloc, nloc))
+    for e, s in enumerate(run):
+        ke = beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
+        amap = _plan_map(s.centre_m, origin)
+        gm = np.zeros((8, nloc))
+        i = s.level_index
+        if i - 1 >= 0:
+            p = 3 * fpos[i - 1]
+            gm[0:2, p:p + 3] = amap
+        if e in bpos:
+            gm[2:4, bpos[e]:bpos[e] + 2] = np.eye(2)
+        p = 3 * fpos[i]
+        gm[4:6, p:p + 3] = amap
+        gm[6:8, bpos[e + 1]:bpos[e + 1] + 2] = np.eye(2)
+        kl += gm.T @ ke @ gm
+    kqq, kqb, kbb = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
+    # static condensation of the slopes (they carry no mass): K* = Kqq - Kqb Kbb^-1 Kbq
+    kc = kqq - kqb @ cho_solve(cho_factor(kbb), kqb.T)
+    idx = np.array([3 * f + c for f in floors for c in range(3)])
+    kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
+
+
+def _storey_map(n: int, i: int) -> tuple[np.ndarray, np.ndarray]:
+    """Indices and 3 x len(idx) map from global freedoms to the drift q_i - q_{i-1}."""
+    if i == 0:
+        return np.arange(0, 3), np.eye(3)
+    return np.arange(3 * i - 3, 3 * i + 3), np.hstack([-np.eye(3), np.eye(3)])
+
+
+def stiffness_matrix(stick: StickModel, *, p_delta: bool = False, g: float = G_STANDARD) -> np.ndarray:
+    """Lateral stiffness matrix (3N x 3N) condensed onto the floor freedoms.
+
+    With ``p_delta`` the geometric stiffness of :func:`geometric_stiffness` is added.
+    Symmetric; positive definite when every floor is restrained in x, y and twist
+    (and, with P-Delta, when the building is stable under its own weight).
+    """
+    _check_stick(stick)
+    n = stick.n_levels
+    kg = np.zeros((3 * n, 3 * n))
+    for _sid, run in cantilever_runs(stick):
+        _add_run(kg, stick, run)
+    for s in stick.segments:
+        i = s.level_index
+        idx, b = _storey_map(n, i)
+        if s.kind in CANTILEVER_KINDS:
+            if s.gj_nm2 > 0:  # St Venant torsion rod between the floors
+                kt = s.gj_nm2 / s.length_m
+                row = b[2]
+                kg[np.ix_(idx, idx)] += kt * np.outer(row, row)
+        else:  # frame: storey springs at centre_m
+            a3 = np.vstack([_plan_map(s.centre_m, stick.origin_m), [0.0, 0.0, 1.0]])
+            d = a3 @ b  # drift at the frame's centre (x, y) and twist drift
+            kd = np.diag([s.k_x_n_m, s.k_y_n_m, s.k_twist_nm_rad])
+            kg[np.ix_(idx, idx)] += d.T @ kd @ d
+    kg = 0.5 * (kg + kg.T)
+    if p_delta:
+        kg = kg + geometric_stiffness(stick, g)
+    return kg
+
+
+def geometric_stiffness(stick: StickModel, g: float = G_STANDARD) -> np.ndarray:
+    """P-Delta geometric stiffness (3N x 3N, negative semi-definite); formula in module doc.
+
+    Storey i has the height ``levels[i].height_m`` and carries the weight of floors i..N-1.
+    """
+    _check_stick(stick)
+    if not (math.isfinite(g) and g >= 0):
+        raise ValueError(f"gravity must be finite and >= 0, got {g!r}")
+    n = stick.n_levels
+    kgeo = np.zeros((3 * n, 3 * n))
+    above = np.zeros((3, 3))
+    for i in range(n - 1, -1, -1):
+        lv = stick.levels[i]
+        above = above + floor_mass_matrix(lv, stick.origin_m)
+        if not (math.isfinite(lv.height_m) and lv.height_m > 0):
+            raise InputError(f"{_where(stick)}: floor {lv.name!r} has a storey height {lv.height_m!r} m")
+        idx, b = _storey_map(n, i)
+        kgeo[np.ix_(idx, idx)] -= (g / lv.height_m) * (b.T @ above @ b)
+    return 0.5 * (kgeo + kgeo.T)
+
+
+def is_positive_definite(a: np.ndarray) -> bool:
+    """True when the symmetric matrix ``a`` admits a Cholesky factorisation."""
+    try:
+        cho_factor(a)
+    except LinAlgError:
+        return False
+    return True
