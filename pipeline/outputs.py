@@ -1,0 +1,198 @@
+"""Write every output of a screening run into a folder.
+
+``DIR/<model>-annotated.ifc`` (a copy of the model with our property sets), ``DIR/report.html``,
+``DIR/summary.json`` and, when anything is flagged, ``DIR/issues.bcfzip``. Each file is
+written to a temporary name and renamed, so an interrupted run leaves no partial output.
+The input model is only read.
+
+Our property sets (names are ours; the reserved ``Pset_`` and ``Qto_`` prefixes are not used):
+
+* ``Swayscreen_Screening`` on IfcBuilding: status, governing check, tool version, settings
+  digest, date, caution.
+* ``Swayscreen_Periods`` on IfcBuilding: period and kind of the first modes.
+* ``Swayscreen_Comfort`` on IfcBuilding: worst peak acceleration and its limit for each
+  criterion and return period; overall drift ratio and its limit; damping assumed and required.
+* ``Swayscreen_Damper`` on IfcBuilding when a damper is proposed.
+* ``Swayscreen_StoreySway`` on each above-grade IfcBuildingStorey: mass, mass and stiffness
+  centres, storey stiffness, drift ratio and peak acceleration at that floor.
+* ``Swayscreen_CoreWall`` on each wall of a core or separate shear wall: system id, closed or open.
+"""
+from __future__ import annotations
+
+import json
+import math
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Any
+
+from . import __version__
+from .console import CAUTION
+from .fileio import atomic_write_text
+
+__all__ = ["annotations_for", "write_outputs", "PSET_PREFIX"]
+
+PSET_PREFIX = "Swayscreen"
+
+
+def _finite(v: Any) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+
+
+def annotations_for(run, *, when: datetime) -> list:
+    from .writing import Prop, PsetAnnotation
+
+    anns: list[PsetAnnotation] = []
+    for b in run.buildings:
+        a = b.assessment
+        gov = a.governing
+        props = [
+            Prop("Status", a.status, "IfcLabel", "pass, flagged or incomplete (a screening estimate, not a design)"),
+            Prop("GoverningCheck", f"{gov.criterion} ({gov.method}): {gov.value:.3g} {gov.unit} against {gov.limit:.3g}"
+                 if gov else "none", "IfcText"),
+            Prop("ToolVersion", f"swayscreen {__version__}", "IfcLabel"),
+            Prop("SettingsDigest", run.settings.digest(), "IfcIdentifier"),
+            Prop("ScreeningDate", when.isoformat(timespec="seconds"), "IfcLabel"),
+            Prop("Caution", CAUTION.replace("\n", " "), "IfcText"),
+        ]
+        if a.reasons:
+            props.append(Prop("Reasons", "; ".join(a.reasons)[:1000], "IfcText"))
+        anns.append(PsetAnnotation(b.building.global_id, f"{PSET_PREFIX}_Screening", tuple(props)))
+        modal = b.results.get("modes")
+        if modal is not None:
+            pp = []
+            for m in modal.modes[:6]:
+                pp.append(Prop(f"Mode{m.index}Period", float(m.period_s), "IfcTimeMeasure"))
+                pp.append(Prop(f"Mode{m.index}Kind", m.kind, "IfcLabel"))
+            anns.append(PsetAnnotation(b.building.global_id, f"{PSET_PREFIX}_Periods", tuple(pp)))
+        cp = []
+        seen = set()
+        for n, c in enumerate(sorted(a.checks, key=lambda c: -c.ratio)):
+            key = (c.criterion, c.method)
+            if key in seen:
+                continue
+            seen.add(key)
+            tag = f"Check{len(seen)}"
+            if c.unit == "mg":
+                cp += [Prop(f"{tag}Criterion", f"{c.criterion} ({c.method})", "IfcText"),
+                       Prop(f"{tag}PeakAcceleration", c.value * 9.81e-3, "IfcAccelerationMeasure"),
+                       Prop(f"{tag}Limit", c.limit * 9.81e-3, "IfcAccelerationMeasure"),
+                       Prop(f"{tag}Passes", bool(c.passes), "IfcBoolean")]
+            else:
+                cp += [Prop(f"{tag}Criterion", f"{c.criterion} ({c.method})", "IfcText"),
+                       Prop(f"{tag}Value", float(c.value), "IfcRatioMeasure" if c.unit == "-" else "IfcReal"),
+                       Prop(f"{tag}Limit", float(c.limit), "IfcRatioMeasure" if c.unit == "-" else "IfcReal"),
+                       Prop(f"{tag}Passes", bool(c.passes), "IfcBoolean")]
+        accel = b.results.get("accel_en")
+        if accel is not None and accel.cases:
+            c0 = accel.cases[0]
+            cp.append(Prop("StructuralDampingRatio", float(c0.structural_damping_ratio), "IfcRatioMeasure"))
+        adv = b.results.get("damping_advice")
+        req = getattr(adv, "required_total_damping_ratio", None) if adv is not None else None
+        if _finite(req):
+            cp.append(Prop("RequiredDampingRatio", float(req), "IfcRatioMeasure"))
+        if cp:
+            anns.append(PsetAnnotation(b.building.global_id, f"{PSET_PREFIX}_Comfort", tuple(cp)))
+        damper_props = getattr(adv, "ifc_properties", None) if adv is not None else None
+        if damper_props:
+            anns.append(PsetAnnotation(b.building.global_id, f"{PSET_PREFIX}_Damper",
+                                       tuple(Prop(n, v, m) for n, v, m in damper_props)))
+        stick = b.derived.stick
+        if stick is not None:
+            drift = b.results.get("drift")
+            drift_by_level = {}
+            if drift is not None:
+                drift_by_level = dict(zip(range(len(stick.levels)), getattr(drift, "storey_drift_ratio", ()) or ()))
+            peak_by_level: dict[int, float] = {}
+            if accel is not None:
+                for case in accel.cases:
+                    for i, v in enumerate(case.floor_peak_mg):
+                        peak_by_level[i] = max(peak_by_level.get(i, 0.0), v)
+            k_by_level: dict[int, list[float]] = {}
+            for s in stick.segments:
+                if s.kind == "frame":
+                    k = k_by_level.setdefault(s.level_index, [0.0, 0.0])
+                    k[0] += s.k_x_n_m
+                    k[1] += s.k_y_n_m
+            centres = stick.stiffness_centres_m or ()
+            for i, lv in enumerate(stick.levels):
+                pp = [Prop("Mass", float(lv.mass_kg), "IfcMassMeasure"),
+                      Prop("MassCentreX", float(lv.mass_centre_m[0]), "IfcLengthMeasure"),
+                      Prop("MassCentreY", float(lv.mass_centre_m[1]), "IfcLengthMeasure")]
+                if i < len(centres):
+                    pp += [Prop("StiffnessCentreX", float(centres[i][0]), "IfcLengthMeasure"),
+                           Prop("StiffnessCentreY", float(centres[i][1]), "IfcLengthMeasure")]
+                if i in k_by_level:
+                    pp += [Prop("ColumnStiffnessX", float(k_by_level[i][0]), "IfcLinearStiffnessMeasure"),
+                           Prop("ColumnStiffnessY", float(k_by_level[i][1]), "IfcLinearStiffnessMeasure")]
+                if _finite(drift_by_level.get(i)):
+                    pp.append(Prop("DriftRatio", float(drift_by_level[i]), "IfcRatioMeasure"))
+                if _finite(peak_by_level.get(i)):
+                    pp.append(Prop("PeakAcceleration", peak_by_level[i] * 9.81e-3, "IfcAccelerationMeasure"))
+                anns.append(PsetAnnotation(lv.storey_id, f"{PSET_PREFIX}_StoreySway", tuple(pp)))
+            for core in stick.cores:
+                for wid in core.wall_ids:
+                    anns.append(PsetAnnotation(wid, f"{PSET_PREFIX}_CoreWall", (
+                        Prop("SystemId", core.id, "IfcIdentifier"),
+                        Prop("Closed", bool(core.closed), "IfcBoolean"),
+                    )))
+    return anns
+
+
+def bcf_topics(run) -> list:
+    from .bcf import BcfTopic
+
+    topics = []
+    for b in run.buildings:
+        if b.assessment.status == "pass":
+            continue
+        storey_ids = {lv.name: lv.storey_id for lv in b.derived.stick.levels} if b.derived.stick else {}
+        for c in b.assessment.flagged:
+            ids = [b.building.global_id]
+            if c.floor and c.floor in storey_ids:
+                ids.append(storey_ids[c.floor])
+            where = f" at {c.floor}" if c.floor else ""
+            wind = f", wind from {c.direction_deg:.0f} deg" if c.direction_deg is not None else ""
+            rp = f", {c.return_period_yr:g}-year return period" if c.return_period_yr else ""
+            desc = (f"{c.criterion} by {c.method}: {c.value:.3g} {c.unit} against a limit of {c.limit:.3g} {c.unit} "
+                    f"(ratio {c.ratio:.2f}){where}{wind}{rp}. {c.note} "
+                    f"{CAUTION.replace(chr(10), ' ')}").strip()
+            topics.append(BcfTopic(f"Sway screening: {c.criterion} exceeded", desc, tuple(ids),
+                                   labels=("swayscreen", "wind comfort" if c.unit == "mg" else "drift")))
+        if b.assessment.status == "incomplete":
+            topics.append(BcfTopic("Sway screening: results missing", "; ".join(b.assessment.reasons),
+                                   (b.building.global_id,), labels=("swayscreen",)))
+    return topics
+
+
+def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[str, Path]:
+    """Write annotated IFC, report, summary and (when flagged) BCF; return their paths."""
+    from .bcf import write_bcfzip
+    from .report import render_report
+    from .summary import build_summary
+    from .writing import write_annotated
+
+    when = when or datetime.now(timezone.utc)
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    src = Path(run.takeoff.source_path)
+    paths: dict[str, Path] = {}
+    ifc_out = out_dir / f"{src.stem}-annotated.ifc"
+    if ifc_out.resolve() == src.resolve():
+        from .errors import InputError
+
+        raise InputError(f"{ifc_out}: the output would overwrite the input model; choose another --out folder")
+    write_annotated(src, ifc_out, annotations_for(run, when=when), owner_prefix=PSET_PREFIX)
+    paths["annotated model"] = ifc_out
+    summary = build_summary(run, when=when)
+    atomic_write_text(out_dir / "summary.json", json.dumps(summary, indent=2) + "\n")
+    paths["summary"] = out_dir / "summary.json"
+    atomic_write_text(out_dir / "report.html", render_report(run, when=when))
+    paths["report"] = out_dir / "report.html"
+    topics = bcf_topics(run)
+    bcf_path = out_dir / "issues.bcfzip"
+    if topics:
+        write_bcfzip(bcf_path, topics, project_name=src.stem, date=when)
+        paths["BCF topics"] = bcf_path
+    elif bcf_path.exists():
+        bcf_path.unlink()  # a stale file from an earlier flagged run would mislead
+    return paths
