@@ -314,17 +314,24 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     for e, s in enumerate(run):
         ke = beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
         amap = _plan_map(s.centre_m, origin)
-        gm = np.zeros((8, nloc))
+        # compact map from the element's own freedoms to the (at most 10) local ones it touches
+        cols: list[int] = []
+        gm = np.zeros((8, 10))
         i = s.level_index
         if i - 1 >= 0:
             p = 3 * fpos[i - 1]
-            gm[0:2, p:p + 3] = amap
+            gm[0:2, len(cols):len(cols) + 3] = amap
+            cols += [p, p + 1, p + 2]
         if e in bpos:
-            gm[2:4, bpos[e]:bpos[e] + 2] = np.eye(2)
+            gm[2:4, len(cols):len(cols) + 2] = np.eye(2)
+            cols += [bpos[e], bpos[e] + 1]
         p = 3 * fpos[i]
-        gm[4:6, p:p + 3] = amap
-        gm[6:8, bpos[e + 1]:bpos[e + 1] + 2] = np.eye(2)
-        kl += gm.T @ ke @ gm
+        gm[4:6, len(cols):len(cols) + 3] = amap
+        cols += [p, p + 1, p + 2]
+        gm[6:8, len(cols):len(cols) + 2] = np.eye(2)
+        cols += [bpos[e + 1], bpos[e + 1] + 1]
+        gm = gm[:, :len(cols)]
+        kl[np.ix_(cols, cols)] += gm.T @ ke @ gm
     kqq, kqb, kbb = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
     # static condensation of the slopes (they carry no mass): K* = Kqq - Kqb Kbb^-1 Kbq
     kc = kqq - kqb @ cho_solve(cho_factor(kbb), kqb.T)
