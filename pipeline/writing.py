@@ -1,0 +1,875 @@
+"""Write our results back into a copy of the IFC model as property sets.
+
+Two writers give the same property values:
+
+* :func:`write_annotated` (the one the tool uses) streams the source file's bytes into the copy
+  unchanged and appends the new instances before the ``ENDSEC;`` that closes the DATA section.
+  Every original instance keeps its ``#id`` and its exact bytes (line endings included: LF, CRLF or
+  the bare CR some exporters write). Cost: one lazy ``ifcopenshell.open`` to locate the targets and
+  any earlier sets of ours, plus one pass over the bytes.
+* :func:`write_annotated_reserialise` is the plain reference: open the model, edit it with
+  ``ifcopenshell.api.pset`` and re-serialise everything with ``file.write`` (about four times the
+  cost of the open). Kept as the benchmark baseline and as a cross-check in the tests.
+
+What is written, per :class:`PsetAnnotation`: one ``IfcPropertySet`` holding one
+``IfcPropertySingleValue`` per :class:`Prop` with a typed ``NominalValue`` (e.g.
+``IFCTIMEMEASURE(2.5)``), and one ``IfcRelDefinesByProperties`` tying it to the object with that
+GlobalId (ISO 16739-1, IfcPropertyResource / IfcKernel).
+
+Our own names
+    Property-set names are ours, never the reserved buildingSMART prefixes ``Pset_`` and ``Qto_``:
+    every name must start with ``owner_prefix + "_"`` (``Swayscreen_BuildingSway`` ...). Every
+    ``IfcPropertySet`` whose name starts with that string is treated as ours.
+
+Re-running
+    All our earlier sets in the source (with their ``IfcRelDefinesByProperties`` and the property
+    instances only they use) are removed and the new ones written: the result is the same as
+    annotating the original model, never a duplicate. Because the new ids start just above the
+    largest id that is kept, annotating an annotated file with the same data gives byte-identical
+    output.
+
+GlobalIds
+    Deterministic: ``uuid5`` of the target GlobalId and the set name, compressed to the 22-character
+    IFC form, so reruns are reproducible.
+
+Owner history
+    IFC2X3 requires ``OwnerHistory`` on every IfcRoot: the file's first ``IfcOwnerHistory`` (lowest
+    id) is reused; if there is none (an already invalid IFC2X3 file) a minimal one is created and
+    reused by later runs. In IFC4 and later it is optional and left unset ($) (common practice:
+    ownership data is only stored when a contract asks for it).
+
+Units
+    :attr:`Prop.value` is in SI (m, kg, s, Hz, N/m, m/s2, rad). IFC reads a measure-typed property
+    value in the project unit for that measure (ISO 16739-1, IfcUnitAssignment), so values are
+    converted to the file's project units with ``ifcopenshell.util.unit.calculate_unit_scale``: a
+    0.012 m drift in a millimetre model is written ``IFCLENGTHMEASURE(12.)``. A unit type that the
+    model does not assign is taken as SI (common practice). Ratios, counts, labels and booleans are
+    unitless.
+
+Measures the schema lacks
+    If a measure is not a member of the schema's ``IfcValue`` select, the value is written as
+    ``IfcReal`` in SI and the unit is appended to the property's Description as ``[unit: m/s2]``;
+    the report lists each such fallback. (IfcAccelerationMeasure is in the IFC2X3 schema that
+    ifcopenshell 0.9 ships, so in practice this does not trigger for the measures we use.)
+"""
+from __future__ import annotations
+
+import math
+import os
+import re
+import tempfile
+import uuid
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import BinaryIO, Union
+
+from .errors import InputError
+
+__all__ = [
+    "Prop",
+    "PsetAnnotation",
+    "WriteReport",
+    "MEASURES",
+    "RESERVED_PREFIXES",
+    "write_annotated",
+    "write_annotated_reserialise",
+    "validate_output",
+    "iter_our_psets",
+    "p21_string",
+    "p21_real",
+]
+
+Value = Union[float, int, str, bool]
+
+#: Prefixes reserved by buildingSMART for standard property and quantity sets.
+RESERVED_PREFIXES: tuple[str, ...] = ("Pset_", "Qto_")
+
+
+@dataclass(frozen=True)
+class _Measure:
+    unit_type: str | None  # IfcUnitEnum / IfcDerivedUnitEnum item for conversion, None = unitless
+    si_symbol: str  # written into the Description when the schema lacks the measure
+    positive: bool = False  # IFC WHERE rule: value > 0
+
+
+#: Measure types accepted in :attr:`Prop.measure`, with the project-unit type used for conversion.
+MEASURES: dict[str, _Measure] = {
+    "IfcTimeMeasure": _Measure("TIMEUNIT", "s"),
+    "IfcFrequencyMeasure": _Measure("FREQUENCYUNIT", "Hz"),
+    "IfcMassMeasure": _Measure("MASSUNIT", "kg"),
+    "IfcLinearStiffnessMeasure": _Measure("LINEARSTIFFNESSUNIT", "N/m"),
+    "IfcLengthMeasure": _Measure("LENGTHUNIT", "m"),
+    "IfcPositiveLengthMeasure": _Measure("LENGTHUNIT", "m", positive=True),
+    "IfcAreaMeasure": _Measure("AREAUNIT", "m2"),
+    "IfcAccelerationMeasure": _Measure("ACCELERATIONUNIT", "m/s2"),
+    "IfcForceMeasure": _Measure("FORCEUNIT", "N"),
+    "IfcPlaneAngleMeasure": _Measure("PLANEANGLEUNIT", "rad"),
+    "IfcLinearVelocityMeasure": _Measure("LINEARVELOCITYUNIT", "m/s"),
+    "IfcRatioMeasure": _Measure(None, ""),
+    "IfcPositiveRatioMeasure": _Measure(None, "", positive=True),
+    "IfcNormalisedRatioMeasure": _Measure(None, ""),
+    "IfcCountMeasure": _Measure(None, ""),
+    "IfcReal": _Measure(None, ""),
+    "IfcInteger": _Measure(None, ""),
+    "IfcLabel": _Measure(None, ""),
+    "IfcText": _Measure(None, ""),
+    "IfcIdentifier": _Measure(None, ""),
+    "IfcBoolean": _Measure(None, ""),
+}
+
+
+@dataclass(frozen=True)
+class Prop:
+    """One property: ``value`` in SI units, ``measure`` an IFC measure type name (see :data:`MEASURES`)."""
+
+    name: str
+    value: Value
+    measure: str
+    description: str = ""
+
+
+@dataclass(frozen=True)
+class PsetAnnotation:
+    """A property set named ``pset_name`` to attach to the object with ``global_id``."""
+
+    global_id: str
+    pset_name: str
+    props: tuple[Prop, ...]
+
+
+@dataclass(frozen=True)
+class WriteReport:
+    """What a write did.
+
+    ``psets_replaced`` counts our earlier sets found in the source and removed;
+    ``instances_removed`` every instance dropped with them (sets, relations, properties);
+    ``instances_added`` every new instance (``first_new_id`` is the lowest new ``#id``, 0 if none);
+    ``validation_errors`` is None unless validation was asked for.
+    """
+
+    dst: Path
+    schema: str
+    psets_written: int
+    psets_replaced: int
+    properties_written: int
+    instances_removed: int
+    instances_added: int
+    first_new_id: int
+    bytes_written: int
+    fallbacks: tuple[str, ...] = ()
+    validation_errors: tuple[str, ...] | None = None
+
+
+# --------------------------------------------------------------------------- ISO 10303-21 values
+
+
+def p21_string(text: str) -> str:
+    """Quote ``text`` as an ISO 10303-21 string literal.
+
+    Apostrophes are doubled, backslashes doubled, and every character outside printable ASCII is
+    written with the ``\\X2\\`` (UTF-16, BMP) or ``\\X4\\`` (UTF-32) escapes of ISO 10303-21:2002
+    clause 6.4.3.
+    """
+    out: list[str] = ["'"]
+    run: list[str] = []
+
+    def flush() -> None:
+        if not run:
+            return
+        if all(ord(c) <= 0xFFFF for c in run):
+            out.append("\\X2\\" + "".join(f"{ord(c):04X}" for c in run) + "\\X0\\")
+        else:
+            out.append("\\X4\\" + "".join(f"{ord(c):08X}" for c in run) + "\\X0\\")
+        run.clear()
+
+    for ch in text:
+        if 0x20 <= ord(ch) <= 0x7E:
+            flush()
+            if ch == "'":
+                out.append("''")
+            elif ch == "\\":
+                out.append("\\\\")
+            else:
+                out.append(ch)
+        else:
+            run.append(ch)
+    flush()
+    out.append("'")
+    return "".join(out)
+
+
+def p21_real(x: float) -> str:
+    """Format a REAL for ISO 10303-21: always a decimal point (``1.5``, ``2.``, ``1.E-05``).
+
+    Uses Python's shortest round-trip representation, so the value read back is the same double.
+    """
+    x = float(x)
+    if not math.isfinite(x):
+        raise ValueError(f"{x!r} cannot be written to an IFC file")
+    text = repr(x)
+    mantissa, _, exponent = text.partition("e")
+    if "." not in mantissa:
+        mantissa += "."
+    elif mantissa.endswith(".0"):
+        mantissa = mantissa[:-1]
+    return mantissa + (f"E{exponent}" if exponent else "")
+
+
+@dataclass(frozen=True)
+class _Ref:
+    id: int
+
+
+@dataclass(frozen=True)
+class _Enum:
+    item: str
+
+
+@dataclass(frozen=True)
+class _Typed:
+    type_name: str
+    literal: str
+
+
+def _p21_value(value: object) -> str:
+    if value is None:
+        return "$"
+    if isinstance(value, _Ref):
+        return f"#{value.id}"
+    if isinstance(value, _Enum):
+        return f".{value.item}."
+    if isinstance(value, _Typed):
+        return f"{value.type_name.upper()}({value.literal})"
+    if isinstance(value, bool):
+        return ".T." if value else ".F."
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        return p21_real(value)
+    if isinstance(value, str):
+        return p21_string(value)
+    if isinstance(value, (tuple, list)):
+        return "(" + ",".join(_p21_value(v) for v in value) + ")"
+    raise TypeError(f"cannot write {value!r} to ISO 10303-21")
+
+
+# --------------------------------------------------------------------------- annotation checks
+
+
+def _check_annotations(annotations: Sequence[PsetAnnotation], owner_prefix: str) -> None:
+    if not owner_prefix or not re.fullmatch(r"[A-Za-z][A-Za-z0-9]*", owner_prefix):
+        raise InputError(f"owner prefix {owner_prefix!r}: use letters and digits only, starting with a letter")
+    for reserved in RESERVED_PREFIXES:
+        if (owner_prefix + "_").lower().startswith(reserved.lower()):
+            raise InputError(f"owner prefix {owner_prefix!r} uses the reserved prefix {reserved!r}")
+    seen: set[tuple[str, str]] = set()
+    for ann in annotations:
+        where = f"property set {ann.pset_name!r} on {ann.global_id!r}"
+        for reserved in RESERVED_PREFIXES:
+            if ann.pset_name.lower().startswith(reserved.lower()):
+                raise InputError(f"{where}: the prefix {reserved!r} is reserved for buildingSMART sets")
+        if not ann.pset_name.startswith(owner_prefix + "_") or len(ann.pset_name) <= len(owner_prefix) + 1:
+            raise InputError(f"{where}: our set names must start with {owner_prefix + '_'!r}")
+        if (ann.global_id, ann.pset_name) in seen:
+            raise InputError(f"{where}: given twice")
+        seen.add((ann.global_id, ann.pset_name))
+        if not ann.props:
+            raise InputError(f"{where}: has no properties (IFC needs at least one)")
+        names: set[str] = set()
+        for prop in ann.props:
+            _check_prop(prop, where)
+            if prop.name in names:
+                raise InputError(f"{where}: property {prop.name!r} given twice")
+            names.add(prop.name)
+
+
+def _check_prop(prop: Prop, where: str) -> None:
+    what = f"{where}, property {prop.name!r}"
+    if not prop.name.strip():
+        raise InputError(f"{where}: a property has an empty name")
+    spec = MEASURES.get(prop.measure)
+    if spec is None:
+        raise InputError(f"{what}: unknown measure {prop.measure!r} (known: {', '.join(sorted(MEASURES))})")
+    v = prop.value
+    if prop.measure == "IfcBoolean":
+        if not isinstance(v, bool):
+            raise InputError(f"{what}: IfcBoolean needs True or False, got {v!r}")
+    elif prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
+        if not isinstance(v, str):
+            raise InputError(f"{what}: {prop.measure} needs text, got {v!r}")
+    elif prop.measure == "IfcInteger":
+        if isinstance(v, bool) or not isinstance(v, int):
+            raise InputError(f"{what}: IfcInteger needs an integer, got {v!r}")
+    else:
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise InputError(f"{what}: {prop.measure} needs a number, got {v!r}")
+        if not math.isfinite(float(v)):
+            raise InputError(f"{what}: {v!r} is not a finite number")
+        if spec.positive and not v > 0:
+            raise InputError(f"{what}: {prop.measure} must be greater than zero, got {v!r}")
+
+
+# --------------------------------------------------------------------------- inspecting the source
+
+
+@dataclass
+class _Plan:
+    schema: str
+    drop_ids: set[int]
+    psets_replaced: int
+    lines: list[str]  # new instances, without line ends, ids ascending
+    first_new_id: int
+    psets_written: int
+    properties_written: int
+    fallbacks: list[str] = field(default_factory=list)
+
+
+def _open(src: Path, *, lazy: bool):
+    import ifcopenshell
+
+    if not src.is_file():
+        raise InputError(f"{src}: no such file")
+    try:
+        model = ifcopenshell.open(str(src), lazy=lazy) if lazy else ifcopenshell.open(str(src))
+    except Exception as exc:  # ifcopenshell raises several kinds; all mean an unreadable model
+        raise InputError(f"{src}: cannot read as IFC ({exc})") from None
+    return model
+
+
+def _value_leaves(schema) -> set[str]:
+    import ifcopenshell.ifcopenshell_wrapper as w
+
+    def inner(sel) -> set[str]:
+        out: set[str] = set()
+        for member in sel.select_list():
+            out |= inner(member) if isinstance(member, w.select_type) else {member.name()}
+        return out
+
+    return inner(schema.declaration_by_name("IfcValue"))
+
+
+def _schema(model):
+    import ifcopenshell.ifcopenshell_wrapper as w
+
+    return w.schema_by_name(model.schema_identifier)
+
+
+def _unit_scale(model, unit_type: str | None) -> float:
+    """Factor taking a value in the model's project unit to SI (1.0 when not assigned)."""
+    if unit_type is None:
+        return 1.0
+    import ifcopenshell.util.unit
+
+    try:
+        scale = float(ifcopenshell.util.unit.calculate_unit_scale(model, unit_type))
+    except ValueError:  # unit type not in this schema's enumerations
+        return 1.0
+    return scale if math.isfinite(scale) and scale > 0 else 1.0
+
+
+def _find_ours(model, owner_prefix: str, src: Path) -> tuple[set[int], int]:
+    """Ids of our earlier property sets, their relations and the properties only they use."""
+    prefix = owner_prefix + "_"
+    ours = [p for p in model.by_type("IfcPropertySet") if (p.Name or "").startswith(prefix)]
+    our_ids = {p.id() for p in ours}
+    drop: set[int] = set(our_ids)
+    for pset in ours:
+        for inv in model.get_inverse(pset):
+            if inv.is_a("IfcRelDefinesByProperties") and inv.RelatingPropertyDefinition == pset:
+                if model.get_inverse(inv):
+                    raise InputError(
+                        f"{src}: #{inv.id()} (relation of our set {pset.Name!r}) is referenced elsewhere; "
+                        "cannot replace it safely"
+                    )
+                drop.add(inv.id())
+            elif inv.id() not in our_ids:
+                raise InputError(
+                    f"{src}: our earlier set #{pset.id()} {pset.Name!r} is also used by #{inv.id()} "
+                    f"({inv.is_a()}); cannot replace it safely"
+                )
+        for prop in pset.HasProperties or ():
+            if all(inv.id() in our_ids for inv in model.get_inverse(prop)):
+                drop.add(prop.id())
+    return drop, len(ours)
+
+
+class _Builder:
+    """Formats new entity instances by attribute name, in the schema's attribute order."""
+
+    def __init__(self, schema, first_id: int) -> None:
+        self.schema = schema
+        self.next_id = first_id
+        self.lines: list[str] = []
+
+    def add(self, entity: str, **attrs: object) -> int:
+        decl = self.schema.declaration_by_name(entity)
+        names = [a.name() for a in decl.all_attributes()]
+        derived = list(decl.derived())
+        # IFC4X3 renamed IfcProperty.Description to Specification
+        if "Description" in attrs and "Description" not in names and "Specification" in names:
+            attrs["Specification"] = attrs.pop("Description")
+        unknown = set(attrs) - set(names)
+        if unknown:
+            raise AssertionError(f"{entity} has no attribute(s) {sorted(unknown)} in {self.schema.name()}")
+        values = []
+        for attr, name, is_derived in zip(decl.all_attributes(), names, derived):
+            if is_derived:
+                values.append("*")
+                continue
+            v = attrs.get(name)
+            if v is None and not attr.optional():
+                raise AssertionError(f"{entity}.{name} is required in {self.schema.name()}")
+            values.append(_p21_value(v))
+        iid = self.next_id
+        self.next_id += 1
+        self.lines.append(f"#{iid}={entity.upper()}({','.join(values)});")
+        return iid
+
+
+def _deterministic_guid(target_gid: str, pset_name: str, what: str) -> str:
+    import ifcopenshell.guid
+
+    u = uuid.uuid5(_GUID_NAMESPACE, f"{target_gid}|{pset_name}|{what}")
+    return ifcopenshell.guid.compress(u.hex)
+
+
+_GUID_NAMESPACE = uuid.uuid5(uuid.NAMESPACE_URL, "urn:swayscreen:ifc-write-back")
+
+
+def _nominal(model, schema_leaves: set[str], prop: Prop, fallbacks: list[str], where: str) -> tuple[_Typed, str]:
+    """Typed NominalValue (in project units) and the description to write."""
+    spec = MEASURES[prop.measure]
+    description = prop.description
+    v = prop.value
+    if prop.measure not in schema_leaves:
+        if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier", "IfcBoolean", "IfcInteger"):
+            raise InputError(f"{where}: {prop.measure} is not a property value type in {model.schema_identifier}")
+        note = f"[unit: {spec.si_symbol}]" if spec.si_symbol else f"[{prop.measure}]"
+        description = f"{description} {note}".strip()
+        fallbacks.append(f"{where}, {prop.name}: {prop.measure} not in {model.schema_identifier}, written as IfcReal {note}")
+        return _Typed("IfcReal", p21_real(float(v))), description
+    if prop.measure == "IfcBoolean":
+        return _Typed(prop.measure, ".T." if v else ".F."), description
+    if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
+        return _Typed(prop.measure, p21_string(str(v))), description
+    if prop.measure == "IfcInteger":
+        return _Typed(prop.measure, str(int(v))), description
+    scale = _unit_scale(model, spec.unit_type)
+    return _Typed(prop.measure, p21_real(float(v) / scale)), description
+
+
+def _owner_history(model, builder: _Builder | None, schema, src: Path) -> int | None:
+    """Id of the owner history our instances reference, or None where the schema allows none."""
+    required = not schema.declaration_by_name("IfcRoot").all_attributes()[1].optional()
+    if not required:
+        return None
+    existing = sorted(model.by_type("IfcOwnerHistory"), key=lambda e: e.id())
+    if existing:
+        return existing[0].id()
+    if builder is None:
+        raise InputError(f"{src}: no IfcOwnerHistory")
+    # A minimal owner history of our own; the source was already missing one.
+    apps = sorted(model.by_type("IfcApplication"), key=lambda e: e.id())
+    users = sorted(model.by_type("IfcPersonAndOrganization"), key=lambda e: e.id())
+    org: int | None = None
+    if not apps or not users:
+        org = builder.add("IfcOrganization", Name="swayscreen")
+    app = apps[0].id() if apps else builder.add(
+        "IfcApplication",
+        ApplicationDeveloper=_Ref(org),
+        Version="0",
+        ApplicationFullName="swayscreen",
+        ApplicationIdentifier="swayscreen",
+    )
+    if users:
+        user = users[0].id()
+    else:
+        person = builder.add("IfcPerson", FamilyName="swayscreen")
+        user = builder.add("IfcPersonAndOrganization", ThePerson=_Ref(person), TheOrganization=_Ref(org))
+    return builder.add(
+        "IfcOwnerHistory",
+        OwningUser=_Ref(user),
+        OwningApplication=_Ref(app),
+        ChangeAction=_Enum("ADDED"),
+        CreationDate=int(src.stat().st_mtime),
+    )
+
+
+def _related_object_ok(entity, schema) -> bool:
+    decl = schema.declaration_by_name("IfcRelDefinesByProperties")
+    attr = [a for a in decl.all_attributes() if a.name() == "RelatedObjects"][0]
+    allowed = attr.type_of_attribute().type_of_element().declared_type().name()
+    return entity.is_a(allowed) and not entity.is_a("IfcTypeObject")
+
+
+def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -> _Plan:
+    model = _open(src, lazy=True)
+    schema = _schema(model)
+    leaves = _value_leaves(schema)
+    drop, replaced = _find_ours(model, owner_prefix, src)
+
+    # New ids start just above the largest id that is kept (see module docstring).
+    top = int(model.get_max_id())
+    while top in drop:
+        top -= 1
+    builder = _Builder(schema, top + 1)
+    oh = _owner_history(model, builder, schema, src)
+    oh_ref = _Ref(oh) if oh is not None else None
+
+    fallbacks: list[str] = []
+    n_props = 0
+    for ann in annotations:
+        where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
+        try:
+            target = model.by_guid(ann.global_id)
+        except RuntimeError:
+            raise InputError(f"{where}: no object with that GlobalId in the model") from None
+        if not _related_object_ok(target, schema):
+            raise InputError(f"{where}: {target.is_a()} #{target.id()} cannot carry a property set by relation")
+        pset_gid = _deterministic_guid(ann.global_id, ann.pset_name, "IfcPropertySet")
+        rel_gid = _deterministic_guid(ann.global_id, ann.pset_name, "IfcRelDefinesByProperties")
+        for gid in (pset_gid, rel_gid):
+            try:
+                clash = model.by_guid(gid)
+            except RuntimeError:
+                continue
+            if clash.id() not in drop:
+                raise InputError(f"{where}: GlobalId {gid} already used by #{clash.id()}")
+        prop_ids = []
+        for prop in ann.props:
+            nominal, description = _nominal(model, leaves, prop, fallbacks, where)
+            prop_ids.append(
+                builder.add(
+                    "IfcPropertySingleValue",
+                    Name=prop.name,
+                    Description=description or None,
+                    NominalValue=nominal,
+                )
+            )
+        n_props += len(prop_ids)
+        pset = builder.add(
+            "IfcPropertySet",
+            GlobalId=pset_gid,
+            OwnerHistory=oh_ref,
+            Name=ann.pset_name,
+            HasProperties=tuple(_Ref(i) for i in prop_ids),
+        )
+        builder.add(
+            "IfcRelDefinesByProperties",
+            GlobalId=rel_gid,
+            OwnerHistory=oh_ref,
+            RelatedObjects=(_Ref(target.id()),),
+            RelatingPropertyDefinition=_Ref(pset),
+        )
+    return _Plan(
+        schema=model.schema_identifier,
+        drop_ids=drop,
+        psets_replaced=replaced,
+        lines=builder.lines,
+        first_new_id=top + 1 if builder.lines else 0,
+        psets_written=len(annotations),
+        properties_written=n_props,
+        fallbacks=fallbacks,
+    )
+
+
+# --------------------------------------------------------------------------- streaming the bytes
+
+# One ISO 10303-21 statement: leading blanks and comments, an optional "#id =" or keyword head,
+# then anything up to the first ";" outside a string or comment. The body is written "unrolled"
+# (plain run, then any number of {string | comment | lone slash} each followed by a plain run):
+# every alternative starts with a different character, so a failed match (an incomplete
+# statement at the end of the buffer) gives up in linear time. A doubled apostrophe inside a
+# string reads as two adjacent strings, which ends at the same place.
+_STATEMENT = re.compile(
+    rb"\s*(?:/\*.*?\*/\s*)*"
+    rb"(?:#(\d+)\s*=|([A-Za-z][A-Za-z0-9_]*))?"
+    rb"[^';/]*(?:(?:'[^']*'|/\*.*?\*/|/(?!\*))[^';/]*)*;",
+    re.DOTALL,
+)
+_LEADING_EOL = re.compile(rb"^[ \t]*(\r\n|\r|\n)")
+_ANY_EOL = re.compile(rb"\r\n|\r|\n")
+_BLOCK = 1 << 22
+
+
+class _Copier:
+    """Copies statements from the source to ``out``, dropping ids and inserting new lines."""
+
+    def __init__(self, src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> None:
+        self.src, self.out, self.drop, self.lines = src, out, drop, lines
+        self.state = "header"  # header -> data -> after
+        self.written = 0
+        self.eol: bytes | None = None  # first line end seen in the file
+
+    def _emit(self, data: bytes) -> None:
+        self.out.write(data)
+        self.written += len(data)
+
+    def _insert(self, piece: bytes) -> None:
+        lead = _LEADING_EOL.match(piece)
+        eol = lead.group(1) if lead else (self.eol or b"\n")
+        block = b"".join(eol + line.encode("ascii") for line in self.lines)
+        if self.lines and not lead:
+            block += eol
+        self._emit(block)
+        self.state = "after"
+
+    def run(self) -> int:
+        buf = b""
+        eof = False
+        match = _STATEMENT.match
+        drop = self.drop
+        with open(self.src, "rb") as fh:
+            while True:
+                pos = 0  # next statement starts here
+                flushed = 0  # bytes of buf already written
+                m = match(buf, pos)
+                while m is not None:
+                    end = m.end()
+                    sid, keyword = m.group(1, 2)
+                    if sid is not None:
+                        if drop and int(sid) in drop:
+                            self._emit(buf[flushed:pos])
+                            flushed = end
+                    elif keyword is not None:
+                        kw = keyword.upper()
+                        if kw == b"DATA" and self.state == "header":
+                            self.state = "data"
+                        elif kw == b"ENDSEC" and self.state == "data":
+                            self._emit(buf[flushed:pos])
+                            flushed = pos
+                            self._insert(buf[pos:end])
+                    pos = end
+                    m = match(buf, pos)
+                if self.eol is None:
+                    found = _ANY_EOL.search(buf, 0, pos)
+                    self.eol = found.group(0) if found else None
+                if eof:
+                    self._emit(buf[flushed:])
+                    break
+                self._emit(buf[flushed:pos])
+                chunk = fh.read(_BLOCK)
+                eof = not chunk
+                buf = buf[pos:] + chunk
+        if self.state != "after":
+            raise InputError(f"{self.src}: no end of the DATA section found (not an ISO 10303-21 file?)")
+        return self.written
+
+
+def _stream(src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> int:
+    """Copy ``src`` to ``out`` dropping ``drop`` ids and inserting ``lines``; returns bytes written."""
+    return _Copier(src, out, drop, lines).run()
+
+
+def _atomic_output(dst: Path):
+    dst.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{dst.name}.", suffix=".part", dir=dst.parent)
+    return fd, Path(tmp)
+
+
+def _same_file(a: Path, b: Path) -> bool:
+    try:
+        return a.resolve() == b.resolve() or (b.exists() and os.path.samefile(a, b))
+    except OSError:
+        return False
+
+
+def write_annotated(
+    src: Path,
+    dst: Path,
+    annotations: Sequence[PsetAnnotation],
+    *,
+    owner_prefix: str = "Swayscreen",
+    validate: bool = False,
+) -> WriteReport:
+    """Write a copy of ``src`` to ``dst`` with our property sets attached (streamed, fast path).
+
+    The source is only read. ``dst`` appears complete or not at all (temporary file beside it,
+    then ``os.replace``). Raises :class:`InputError` for a reserved or foreign set name, an
+    unknown GlobalId, a value that does not fit its measure, or an unreadable source.
+    With ``validate=True`` the written file is checked with :func:`validate_output`.
+    """
+    src, dst = Path(src), Path(dst)
+    _check_annotations(annotations, owner_prefix)
+    if _same_file(src, dst):
+        raise InputError(f"{dst}: the annotated copy must not overwrite its source")
+    plan = _plan(src, annotations, owner_prefix)
+    fd, tmp = _atomic_output(dst)
+    try:
+        with os.fdopen(fd, "wb") as out:
+            written = _stream(src, out, plan.drop_ids, plan.lines)
+            out.flush()
+            os.fsync(out.fileno())
+        os.chmod(tmp, 0o644)
+        os.replace(tmp, dst)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+    errors = tuple(validate_output(dst)) if validate else None
+    return WriteReport(
+        dst=dst,
+        schema=plan.schema,
+        psets_written=plan.psets_written,
+        psets_replaced=plan.psets_replaced,
+        properties_written=plan.properties_written,
+        instances_removed=len(plan.drop_ids),
+        instances_added=len(plan.lines),
+        first_new_id=plan.first_new_id,
+        bytes_written=written,
+        fallbacks=tuple(plan.fallbacks),
+        validation_errors=errors,
+    )
+
+
+# --------------------------------------------------------------------------- reference writer
+
+
+def _python_value(model, leaves: set[str], prop: Prop, fallbacks: list[str], where: str):
+    """The same typed value as the streamed writer, as an ifcopenshell entity."""
+    nominal, description = _nominal(model, leaves, prop, fallbacks, where)
+    v = prop.value
+    if nominal.type_name == "IfcReal" and prop.measure != "IfcReal":
+        return model.create_entity("IfcReal", float(v)), description
+    if prop.measure == "IfcBoolean":
+        return model.create_entity("IfcBoolean", bool(v)), description
+    if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
+        return model.create_entity(prop.measure, str(v)), description
+    if prop.measure == "IfcInteger":
+        return model.create_entity(prop.measure, int(v)), description
+    scale = _unit_scale(model, MEASURES[prop.measure].unit_type)
+    return model.create_entity(prop.measure, float(v) / scale), description
+
+
+def write_annotated_reserialise(
+    src: Path,
+    dst: Path,
+    annotations: Sequence[PsetAnnotation],
+    *,
+    owner_prefix: str = "Swayscreen",
+    validate: bool = False,
+) -> WriteReport:
+    """Reference writer: edit with ``ifcopenshell.api.pset`` and re-serialise with ``file.write``.
+
+    Same checks, names, GlobalIds, owner history and values as :func:`write_annotated`; instance
+    ids of the new entities and the file's formatting differ. Several times slower on large files.
+    """
+    import ifcopenshell.api.pset
+    import ifcopenshell.guid
+
+    src, dst = Path(src), Path(dst)
+    _check_annotations(annotations, owner_prefix)
+    if _same_file(src, dst):
+        raise InputError(f"{dst}: the annotated copy must not overwrite its source")
+    model = _open(src, lazy=False)
+    schema = _schema(model)
+    leaves = _value_leaves(schema)
+    drop, replaced = _find_ours(model, owner_prefix, src)
+    for iid in sorted(drop, reverse=True):
+        model.remove(model.by_id(iid))
+
+    oh_id = _owner_history(model, None, schema, src)  # the reference writer never creates one
+    owner = model.by_id(oh_id) if oh_id is not None else None
+
+    fallbacks: list[str] = []
+    n_props = 0
+    before = {e.id() for e in model.by_type("IfcOwnerHistory")}
+    for ann in annotations:
+        where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
+        try:
+            target = model.by_guid(ann.global_id)
+        except RuntimeError:
+            raise InputError(f"{where}: no object with that GlobalId in the model") from None
+        if not _related_object_ok(target, schema):
+            raise InputError(f"{where}: {target.is_a()} #{target.id()} cannot carry a property set by relation")
+        pset = ifcopenshell.api.pset.add_pset(model, product=target, name=ann.pset_name)
+        props = {}
+        for prop in ann.props:
+            nominal, description = _python_value(model, leaves, prop, fallbacks, where)
+            props[prop.name] = model.create_entity(
+                "IfcPropertySingleValue", Name=prop.name, Description=description or None, NominalValue=nominal
+            )
+        # Property instances are passed whole: edit_pset keeps them as they are (booleans included).
+        ifcopenshell.api.pset.edit_pset(model, pset=pset, properties=props)
+        n_props += len(props)
+        pset.GlobalId = _deterministic_guid(ann.global_id, ann.pset_name, "IfcPropertySet")
+        pset.OwnerHistory = owner
+        for rel in model.get_inverse(pset):
+            if rel.is_a("IfcRelDefinesByProperties"):
+                rel.GlobalId = _deterministic_guid(ann.global_id, ann.pset_name, "IfcRelDefinesByProperties")
+                rel.OwnerHistory = owner
+    # Owner histories the API created on the way and that nothing uses any more.
+    for oh in model.by_type("IfcOwnerHistory"):
+        if oh.id() not in before and not model.get_inverse(oh):
+            model.remove(oh)
+
+    fd, tmp = _atomic_output(dst)
+    os.close(fd)
+    try:
+        model.write(str(tmp))
+        os.chmod(tmp, 0o644)
+        os.replace(tmp, dst)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+    errors = tuple(validate_output(dst)) if validate else None
+    return WriteReport(
+        dst=dst,
+        schema=model.schema_identifier,
+        psets_written=len(annotations),
+        psets_replaced=replaced,
+        properties_written=n_props,
+        instances_removed=len(drop),
+        instances_added=n_props + 2 * len(annotations),
+        first_new_id=0,
+        bytes_written=dst.stat().st_size,
+        fallbacks=tuple(fallbacks),
+        validation_errors=errors,
+    )
+
+
+# --------------------------------------------------------------------------- validation
+
+
+def validate_output(path: Path) -> list[str]:
+    """Schema-level errors ifcopenshell.validate finds in ``path`` (attribute types, cardinalities,
+    inverses; not the EXPRESS WHERE rules). One string per problem, ``"#id=IfcX: message"``.
+    """
+    import ifcopenshell
+    import ifcopenshell.validate
+
+    logger = ifcopenshell.validate.json_logger()
+    ifcopenshell.validate.validate(str(path), logger)
+    out: list[str] = []
+    for st in logger.statements:
+        if str(st.get("level", "")).lower() not in ("error", "critical"):
+            continue
+        inst = st.get("instance")
+        label = ""
+        if inst is not None:
+            try:
+                label = f"#{inst.id()}={inst.is_a()}: "
+            except Exception:  # a non-entity value in the log record
+                label = f"{inst}: "
+        out.append(f"{label}{st.get('message', '')}")
+    return out
+
+
+def iter_our_psets(path: Path, owner_prefix: str = "Swayscreen") -> Iterable[tuple[str, str, dict[str, tuple[str, object]]]]:
+    """Read back our sets: ``(target GlobalId, set name, {property: (measure type, value)})``.
+
+    Values as stored in the file (project units). For tests and the report.
+    """
+    model = _open(Path(path), lazy=False)
+    prefix = owner_prefix + "_"
+    for rel in model.by_type("IfcRelDefinesByProperties"):
+        pdef = rel.RelatingPropertyDefinition
+        if not hasattr(pdef, "is_a") or not pdef.is_a("IfcPropertySet") or not (pdef.Name or "").startswith(prefix):
+            continue
+        props = {
+            p.Name: (p.NominalValue.is_a(), p.NominalValue.wrappedValue)
+            for p in pdef.HasProperties
+            if p.is_a("IfcPropertySingleValue") and p.NominalValue is not None
+        }
+        for obj in rel.RelatedObjects:
+            yield obj.GlobalId, pdef.Name, props
