@@ -1,0 +1,288 @@
+"""Floor masses, mass centres and polar mass moments of the sway floors.
+
+Per floor (see :mod:`swayscreen.pipeline.floors` for which floors exist), components:
+
+* ``slabs``: self-weight of each plate slab, area (voids subtracted) x thickness x its
+  material's density; plus the shares of loose slabs (landings, mezzanines) by elevation.
+* ``superimposed dead``: ``LoadSettings.superimposed_dead_kpa`` over the plate area (the
+  union of the plate slabs, so overlapping pieces count once). Also on the roof
+  (roofing, services).
+* ``partitions``: ``partitions_kpa`` over the plate area; not on the roof.
+* ``facade``: ``facade_kpa`` x the plate's outer perimeter x the tributary height, half
+  the storey below plus half the storey above (the mean of the two storey heights; on the
+  roof half the storey below), spread along the perimeter as a line mass.
+* ``live load``: ``live_load_fraction`` x the imposed load of the floor's occupancy
+  (``Storey.usage``, else ``LoadSettings.occupancy``) over the plate area; none on the roof
+  (EN 1990 Table A1.1: psi_2 = 0 for roofs, category H).
+* ``walls``, ``columns``: each element's volume x density lumped onto the floors by the
+  linear shape functions of the floor elevations (:func:`~swayscreen.pipeline.floors.vertical_shares`):
+  a storey-high element gives half to the floor below and half to the floor above, the
+  part below the base is dropped, anything above the roof goes to the roof. Wall openings
+  are subtracted: each is a hole of its width x wall thickness in plan over its sill-head
+  height, lumped the same way. Volumes are summed per element (element footprints are
+  not unioned); a core drawn with centreline dimensions and mitred corners is exact.
+
+Mass centre and polar moment: every component is spread uniformly over its plan shape
+(slab polygons, the plate, the perimeter line, each wall/column footprint, the opening
+holes), and the exact area/line integrals (:mod:`swayscreen.pipeline.plan_moments`) give
+the first and second moments. For a wall or column this equals a point mass at its
+footprint centroid plus its own plan polar moment m (I_x + I_y) / A.
+
+Missing slabs: a floor with no plate slab borrows the plate slabs of the nearest floor
+below (else above) that has them, with a warning. When no floor has slabs, every floor's
+mass is estimated as ``building_density_kg_m3`` x gross area x tributary height, with the
+gross area the convex hull of the walls' and columns' footprints of the storey below
+(else above), and a warning.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from shapely.geometry import MultiPolygon, Polygon
+from shapely.geometry.base import BaseGeometry
+from shapely.ops import unary_union
+
+from .core_settings import G, LoadSettings
+from .floors import Floor, FloorLayout, vertical_shares
+from .materials import MaterialBook
+from .plan_moments import MassMoments, polygons_of
+from .takeoff import Slab, Wall
+
+__all__ = ["COMPONENTS", "LevelMass", "floor_masses", "plate_of", "opening_footprint", "mass_reference_point"]
+
+COMPONENTS = ("slabs", "superimposed dead", "partitions", "facade", "live load", "walls", "columns",
+              "bulk estimate")
+"""Component names, in reporting order."""
+
+_CLOSE_GAPS_M = 0.05  # slab pieces closer than this are one plate for the facade perimeter
+
+
+@dataclass(frozen=True)
+class LevelMass:
+    """The lumped mass of one floor.
+
+    Attributes:
+        mass_kg: total; equals the sum of ``components_kg``.
+        centre_m: plan mass centre.
+        polar_moment_kg_m2: about the vertical axis through ``centre_m``.
+        components_kg: (name, kg) in :data:`COMPONENTS` order, non-zero ones only.
+        plate: the floor plate outline (union of its slabs, or the estimate's area).
+        plate_area_m2: area of the plate (voids subtracted).
+        gross_area_m2: area inside the plate's outer outline (voids filled), for densities.
+        estimated: "" when from slabs, "borrowed" or "bulk" when estimated.
+    """
+
+    mass_kg: float
+    centre_m: tuple[float, float]
+    polar_moment_kg_m2: float
+    components_kg: tuple[tuple[str, float], ...]
+    plate: Polygon | MultiPolygon | None
+    plate_area_m2: float
+    gross_area_m2: float
+    estimated: str = ""
+
+
+def plate_of(slabs: Sequence[Slab]) -> Polygon | MultiPolygon | None:
+    """Union of the slabs' footprints as a Polygon or MultiPolygon (None when empty)."""
+    polys = polygons_of(unary_union([sl.footprint for sl in slabs])) if slabs else []
+    if not polys:
+        return None
+    return polys[0] if len(polys) == 1 else MultiPolygon(polys)
+
+
+def _filled(shape: BaseGeometry | None) -> BaseGeometry | None:
+    polys = polygons_of(shape)
+    if not polys:
+        return None
+    return unary_union([Polygon(p.exterior) for p in polys])
+
+
+def opening_footprint(wall: Wall, start_m: float, end_m: float) -> Polygon | None:
+    """Plan rectangle of the part of ``wall`` between ``start_m`` and ``end_m`` along its axis."""
+    (x0, y0), (x1, y1) = wall.axis_m
+    length = ((x1 - x0) ** 2 + (y1 - y0) ** 2) ** 0.5
+    if length <= 0:
+        return None
+    a, b = max(0.0, start_m), min(length, end_m)
+    if b <= a:
+        return None
+    ux, uy = (x1 - x0) / length, (y1 - y0) / length
+    nx, ny = -uy * wall.thickness_m / 2, ux * wall.thickness_m / 2
+    p, q = (x0 + ux * a, y0 + uy * a), (x0 + ux * b, y0 + uy * b)
+    return Polygon([(p[0] - nx, p[1] - ny), (q[0] - nx, q[1] - ny), (q[0] + nx, q[1] + ny), (p[0] + nx, p[1] + ny)])
+
+
+def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
+    """A plan point near the building (bounding-box centre of slabs, walls and columns)."""
+    shapes = [sl.footprint for f in layout.floors for sl in f.slabs]
+    shapes += [w.footprint for w in layout.walls] + [c.section for c in layout.columns]
+    shapes = [s for s in shapes if s is not None and not s.is_empty]
+    if not shapes:
+        return (0.0, 0.0)
+    minx = min(s.bounds[0] for s in shapes)
+    miny = min(s.bounds[1] for s in shapes)
+    maxx = max(s.bounds[2] for s in shapes)
+    maxy = max(s.bounds[3] for s in shapes)
+    return ((minx + maxx) / 2, (miny + maxy) / 2)
+
+
+def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
+              warnings: list[str]) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
+    nodes = layout.nodes_m
+    n = len(layout.floors)
+    walls = [MassMoments(ref) for _ in range(n)]
+    cols = [MassMoments(ref) for _ in range(n)]
+    loose = [MassMoments(ref) for _ in range(n)]
+    skipped = 0
+    for w in layout.walls:
+        mat = book.get(w.material, "walls")
+        if w.height_m <= 0 or w.footprint is None or w.footprint.is_empty or w.footprint.area <= 0:
+            skipped += 1
+            continue
+        m = w.footprint.area * w.height_m * mat.density_kg_m3
+        for i, f in enumerate(vertical_shares(nodes, w.base_elevation_m, w.top_elevation_m)):
+            if f:
+                walls[i].add_area(m * f, w.footprint)
+        for op in w.openings:
+            hole = opening_footprint(w, op.start_m, op.end_m)
+            sill, head = max(0.0, op.sill_m), min(w.height_m, op.head_m)
+            if hole is None or head <= sill:
+                continue
+            mh = hole.area * (head - sill) * mat.density_kg_m3
+            z0 = w.base_elevation_m + sill
+            for i, f in enumerate(vertical_shares(nodes, z0, w.base_elevation_m + head)):
+                if f:
+                    walls[i].add_area(-mh * f, hole)
+    for c in layout.columns:
+        mat = book.get(c.material, "columns")
+        if c.height_m <= 0 or c.section is None or c.section.is_empty or c.section.area <= 0:
+            skipped += 1
+            continue
+        m = c.section.area * c.height_m * mat.density_kg_m3
+        for i, f in enumerate(vertical_shares(nodes, c.base_elevation_m, c.top_elevation_m)):
+            if f:
+                cols[i].add_area(m * f, c.section)
+    for sl in layout.loose_slabs:
+        mat = book.get(sl.material, "slabs")
+        if sl.footprint.is_empty or sl.area_m2 <= 0:
+            continue
+        m = sl.area_m2 * sl.thickness_m * mat.density_kg_m3
+        z = sl.top_elevation_m - sl.thickness_m / 2
+        for i, f in enumerate(vertical_shares(nodes, z - 1e-3, z + 1e-3)):
+            if f:
+                loose[i].add_area(m * f, sl.footprint)
+    if skipped:
+        warnings.append(f"{skipped} wall(s)/column(s) with no height or plan area carry no mass")
+    return walls, cols, loose
+
+
+def _nearest_with_slabs(floors: Sequence[Floor], i: int) -> Floor | None:
+    below = [f for f in floors[:i] if f.slabs]
+    if below:
+        return below[-1]
+    above = [f for f in floors[i + 1:] if f.slabs]
+    return above[0] if above else None
+
+
+def _hull_of(floor: Floor) -> BaseGeometry | None:
+    for group in (floor.segment_storeys, floor.floor_storeys):
+        shapes = [w.footprint for s in group for w in s.walls] + [c.section for s in group for c in s.columns]
+        shapes = [s for s in shapes if s is not None and not s.is_empty]
+        if shapes:
+            hull = unary_union(shapes).convex_hull
+            if hull.area > 0:
+                return hull
+    return None
+
+
+def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
+                 ) -> tuple[list[LevelMass], list[str]]:
+    """The mass of every floor in ``layout`` (see the module doc); returns (masses, warnings)."""
+    warnings: list[str] = []
+    floors = layout.floors
+    if not floors:
+        return [], warnings
+    ref = mass_reference_point(layout)
+    kg_per_kpa = 1000.0 / G
+    walls, cols, loose = _vertical(layout, book, ref, warnings)
+    any_slab = any(f.slabs for f in floors)
+    if not any_slab:
+        return _bulk(layout, loads, ref, warnings), warnings
+
+    out: list[LevelMass] = []
+    borrowed: list[str] = []
+    for i, f in enumerate(floors):
+        slabs = f.slabs
+        estimated = ""
+        if not slabs:
+            src = _nearest_with_slabs(floors, i)
+            assert src is not None  # any_slab
+            slabs = src.slabs
+            estimated = "borrowed"
+            borrowed.append(f"'{f.name}' (from '{src.name}')")
+        plate = plate_of(slabs)
+        comp: dict[str, MassMoments] = {k: MassMoments(ref) for k in COMPONENTS}
+        for sl in slabs:
+            mat = book.get(sl.material, "slabs")
+            if sl.area_m2 > 0:
+                comp["slabs"].add_area(sl.area_m2 * sl.thickness_m * mat.density_kg_m3, sl.footprint)
+        comp["slabs"].merge([loose[i]])
+        area = plate.area if plate is not None else 0.0
+        if area > 0:
+            comp["superimposed dead"].add_area(loads.superimposed_dead_kpa * kg_per_kpa * area, plate)
+            if not f.is_roof:
+                comp["partitions"].add_area(loads.partitions_kpa * kg_per_kpa * area, plate)
+                usage = f.usage or loads.occupancy
+                if usage not in loads.live_load_kpa:
+                    warnings.append(f"floor '{f.name}': occupancy '{usage}' has no imposed load in settings; "
+                                    f"'{loads.occupancy}' used")
+                    usage = loads.occupancy
+                q = loads.live_load_kpa.get(usage, 0.0)
+                comp["live load"].add_area(loads.live_load_fraction * q * kg_per_kpa * area, plate)
+            closed = plate.buffer(_CLOSE_GAPS_M, join_style="mitre").buffer(-_CLOSE_GAPS_M, join_style="mitre")
+            outline = closed if not closed.is_empty else plate
+            perim = sum(p.exterior.length for p in polygons_of(outline))
+            h_trib = layout.tributary_height_m(i)
+            if perim > 0 and h_trib > 0:
+                comp["facade"].add_outline(loads.facade_kpa * kg_per_kpa * perim * h_trib, outline)
+        comp["walls"].merge([walls[i]])
+        comp["columns"].merge([cols[i]])
+        out.append(_finish(comp, plate, estimated))
+    if borrowed:
+        warnings.append("no slab found at floor(s) " + ", ".join(borrowed)
+                        + ": the plate and slabs of the named floor assumed")
+    return out, warnings
+
+
+def _finish(comp: dict[str, MassMoments], plate: BaseGeometry | None, estimated: str) -> LevelMass:
+    total = MassMoments(next(iter(comp.values())).ref)
+    total.merge(comp.values())
+    filled = _filled(plate)
+    return LevelMass(
+        mass_kg=total.m, centre_m=total.centre, polar_moment_kg_m2=total.polar_moment,
+        components_kg=tuple((k, c.m) for k, c in comp.items() if c.m != 0.0),
+        plate=plate if plate is None or isinstance(plate, (Polygon, MultiPolygon)) else None,
+        plate_area_m2=float(plate.area) if plate is not None else 0.0,
+        gross_area_m2=float(filled.area) if filled is not None else 0.0, estimated=estimated)
+
+
+def _bulk(layout: FloorLayout, loads: LoadSettings, ref: tuple[float, float], warnings: list[str]) -> list[LevelMass]:
+    floors = layout.floors
+    hulls = [_hull_of(f) for f in floors]
+    if not any(h is not None for h in hulls):
+        warnings.append("no slabs, walls or columns with a plan area: floor masses cannot be estimated")
+        return []
+    for i, h in enumerate(hulls):
+        if h is None:
+            near = sorted((abs(j - i), j) for j, g in enumerate(hulls) if g is not None)
+            hulls[i] = hulls[near[0][1]]
+    out: list[LevelMass] = []
+    for i, hull in enumerate(hulls):
+        comp = {"bulk estimate": MassMoments(ref)}
+        comp["bulk estimate"].add_area(loads.building_density_kg_m3 * hull.area * layout.tributary_height_m(i), hull)
+        plate = hull if isinstance(hull, Polygon) else None
+        out.append(_finish(comp, plate, "bulk"))
+    warnings.append(f"no floor slabs read: floor masses estimated as {loads.building_density_kg_m3:g} kg/m^3 "
+                    "x the convex hull of the walls and columns x the storey height")
+    return out

@@ -1,0 +1,392 @@
+"""Lateral stiffness of the vertical systems per storey: cantilever segments and column frames.
+
+Cantilevers (cores and separate walls). From the gross plan-section constants
+(:class:`~swayscreen.pipeline.stick.SectionProps`) of the system at a storey::
+
+    EI_xx = E I_xx f_w,  EI_yy = E I_yy f_w,  EI_xy = E I_xy f_w     (f_w = wall_flexure_factor)
+    GA_x  = G A_s,x f_v, GA_y  = G A_s,y f_v                          (f_v = wall_shear_factor)
+    GJ    = G J f_t                                                   (f_t = torsion_factor)
+
+at the section's shear centre. (EN 1992-1-1 / ACI 318-19 R6.6.3.2.2 for the factors' defaults.)
+
+Columns. Each column is a storey shear spring in x and y::
+
+    k_x = a_x 12 E f_c I_yy / h^3,   k_y = a_y 12 E f_c I_xx / h^3
+
+with I_yy (I_xx) the second moment of its section polygon about its own centroidal axis
+parallel to y (x) (sway in x bends the column about y), f_c = column_flexure_factor, h the
+clear height (storey height minus the thickness of the slab at the column's top) when
+``column_clear_height``, else the storey height. Product moments of rotated sections are
+neglected (no x-y coupling per column). Columns whose centroid lies inside a wall of the
+same storey are part of that wall and get no spring of their own.
+
+End-restraint factor a: ``column_restraint_factor`` when set; otherwise Muto's D-value
+method (K. Muto, *Aseismic design analysis of buildings*, Maruzen, 1974; also in
+B. Stafford Smith and A. Coull, *Tall Building Structures*, 1991, approximate frame
+analysis; from memory)::
+
+    general storey:            k = (sum K_top + sum K_bottom) / (2 K_c),  a = k / (2 + k)
+    lowest storey, fixed base: k = sum K_top / K_c,                       a = (0.5 + k) / (2 + k)
+
+with K_c = E_c f_c I / h the column's and K = E_s f_s (b d^3 / 12) / L each connecting
+slab strip's stiffness (f_s = slab_flexure_factor). Slab strips (flat-plate construction;
+the strips stand in for beams): in each sway direction a strip runs from the column to the
+nearest column or wall on each side along that direction (a column counts when it lies
+within a cone of +-0.3 of the distance across, a wall when a ray from the column centroid
+meets it), up to ``MAX_SLAB_SPAN_M``; L is that distance, d the slab thickness at the
+joint, b = slab_strip_width_ratio times the panel width across (the mean distance to the
+nearest columns or walls on either side across; L when there are none). A column with no
+support on either side in a direction gets two strips of the storey's typical span (the
+median of the spans found, else the square root of plate area per column). The factor
+used is reported per storey (mean, min, max per direction).
+
+Centre of stiffness of a storey (reporting only; the analysis uses the segments): each
+system's lateral storey stiffness is, for a cantilever, that of a cantilever of storey
+height fixed at its base, k = 1 / (h^3 / (3 EI) + h / GA) (bending and shear in series),
+and for the column frame its springs; then x_s = sum k_y,i x_i / sum k_y,i and
+y_s = sum k_x,i y_i / sum k_x,i over the systems' centres.
+"""
+from __future__ import annotations
+
+import math
+import statistics
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Protocol
+
+import numpy as np
+from shapely.geometry import LineString, Point
+from shapely.geometry.base import BaseGeometry
+from shapely.ops import unary_union
+
+from .core_settings import StiffnessSettings
+from .plan_moments import area_moments
+from .stick import SectionProps, Segment
+
+__all__ = [
+    "MAX_SLAB_SPAN_M",
+    "NO_SLAB_RESTRAINT",
+    "SystemLike",
+    "cantilever_segment",
+    "cantilever_storey_stiffness",
+    "column_second_moments",
+    "muto_factor",
+    "SlabField",
+    "ColumnInput",
+    "ColumnSpring",
+    "RestraintReport",
+    "column_springs",
+    "frame_segment",
+    "storey_stiffness_centre",
+]
+
+MAX_SLAB_SPAN_M = 20.0
+"""Farthest column or wall a slab strip is taken to reach (m); common practice: flat-plate
+spans rarely exceed 12-15 m even post-tensioned."""
+
+NO_SLAB_RESTRAINT = 0.5
+"""Restraint factor assumed when no slab is known at either end of a column (no slabs read);
+common practice midpoint between a cantilever column (0.25) and fixed ends (1.0)."""
+
+_CONE = 0.3
+
+
+class SystemLike(Protocol):
+    """What a vertical system found by :mod:`swayscreen.pipeline.cores` offers per storey."""
+
+    system_id: str
+    kind: str
+    wall_ids: tuple[str, ...]
+    section: SectionProps
+    closed: bool
+
+
+def cantilever_segment(system_id: str, kind: str, level_index: int, length_m: float, section: SectionProps,
+                       e_pa: float, g_pa: float, stiffness: StiffnessSettings) -> Segment:
+    """The Segment of a core or wall over one storey from its gross section (see module doc)."""
+    fw, fv, ft = stiffness.wall_flexure_factor, stiffness.wall_shear_factor, stiffness.torsion_factor
+    return Segment(
+        system_id=system_id, kind=kind, level_index=level_index, length_m=length_m,
+        centre_m=(float(section.shear_centre_m[0]), float(section.shear_centre_m[1])),
+        ei_xx_nm2=e_pa * section.ixx_m4 * fw, ei_yy_nm2=e_pa * section.iyy_m4 * fw,
+        ei_xy_nm2=e_pa * section.ixy_m4 * fw,
+        ga_x_n=g_pa * section.shear_area_x_m2 * fv, ga_y_n=g_pa * section.shear_area_y_m2 * fv,
+        gj_nm2=g_pa * section.j_m4 * ft, section=section)
+
+
+def cantilever_storey_stiffness(ei_nm2: float, ga_n: float, h_m: float) -> float:
+    """Tip stiffness (N/m) of a cantilever of length h: 1 / (h^3/(3 EI) + h/GA); GA = 0 means rigid in shear."""
+    flex = 0.0
+    if ei_nm2 > 0:
+        flex += h_m ** 3 / (3.0 * ei_nm2)
+    else:
+        return 0.0
+    if ga_n > 0:
+        flex += h_m / ga_n
+    return 1.0 / flex
+
+
+def column_second_moments(section: BaseGeometry) -> tuple[float, float, float]:
+    """(I_xx, I_yy, I_xy) of a column section about its own centroid (m^4); I_xx about the axis parallel to x."""
+    c = section.centroid
+    return area_moments(section, (float(c.x), float(c.y))).central()
+
+
+def muto_factor(k_bar: float, *, fixed_base: bool = False) -> float:
+    """Muto's D-value factor on 12 E I / h^3 for a column with stiffness ratio ``k_bar``.
+
+    a = k / (2 + k) for a general storey; a = (0.5 + k) / (2 + k) for the lowest storey
+    with a fixed base (Muto 1974, from memory). Limits: k -> inf gives 1 (fixed-fixed);
+    k = 0 gives 0 (general) or 0.25 (cantilever column, 3 E I / h^3).
+    """
+    if k_bar < 0 or math.isnan(k_bar):
+        raise ValueError(f"stiffness ratio must be >= 0, got {k_bar!r}")
+    if math.isinf(k_bar):
+        return 1.0
+    if fixed_base:
+        return (0.5 + k_bar) / (2.0 + k_bar)
+    return k_bar / (2.0 + k_bar)
+
+
+class SlabField:
+    """The floor slabs at one joint level: thickness and modulus looked up by plan position."""
+
+    def __init__(self, pieces: Sequence[tuple[BaseGeometry, float, float]]) -> None:
+        """``pieces``: (footprint, thickness m, effective E Pa) of each slab."""
+        self.pieces = [(shp, float(t), float(e)) for shp, t, e in pieces if not shp.is_empty and t > 0]
+        area = sum(p[0].area for p in self.pieces)
+        if area > 0:
+            self.mean_t = sum(p[0].area * p[1] for p in self.pieces) / area
+            self.mean_e = sum(p[0].area * p[2] for p in self.pieces) / area
+        else:
+            self.mean_t = self.mean_e = 0.0
+        self.area_m2 = float(unary_union([p[0] for p in self.pieces]).area) if self.pieces else 0.0
+
+    def __bool__(self) -> bool:
+        return bool(self.pieces)
+
+    def at(self, x: float, y: float) -> tuple[float, float]:
+        """(thickness m, E Pa) of the slab at (x, y): the slab containing or within 1 m of the point,
+        else the area-weighted means."""
+        pt = Point(x, y)
+        best = None
+        for shp, t, e in self.pieces:
+            d = shp.distance(pt)
+            if d <= 1.0 and (best is None or d < best[0]):
+                best = (d, t, e)
+        if best is not None:
+            return best[1], best[2]
+        return self.mean_t, self.mean_e
+
+
+@dataclass(frozen=True)
+class ColumnInput:
+    """A column of one storey as the stiffness needs it: id, plan section, effective E (Pa)."""
+
+    global_id: str
+    section: BaseGeometry
+    e_pa: float
+
+
+@dataclass(frozen=True)
+class ColumnSpring:
+    """Storey springs of one column (N/m) at its centroid, with the factors used."""
+
+    global_id: str
+    centre_m: tuple[float, float]
+    k_x_n_m: float
+    k_y_n_m: float
+    a_x: float
+    a_y: float
+    h_m: float
+
+
+@dataclass(frozen=True)
+class RestraintReport:
+    """The column end-restraint factors used in one storey (below floor ``level_index``).
+
+    Attributes:
+        method: "settings" (column_restraint_factor), "Muto D-value" or "no slab (assumed)".
+        a_x_*, a_y_*: mean, min and max factor over the storey's columns per sway direction.
+    """
+
+    level_index: int
+    storey: str
+    n_columns: int
+    method: str
+    a_x_mean: float
+    a_x_min: float
+    a_x_max: float
+    a_y_mean: float
+    a_y_min: float
+    a_y_max: float
+
+    def describe(self) -> str:
+        return (f"{self.storey}: {self.n_columns} column(s), restraint factor ({self.method}) "
+                f"x {self.a_x_mean:.2f} [{self.a_x_min:.2f}-{self.a_x_max:.2f}], "
+                f"y {self.a_y_mean:.2f} [{self.a_y_min:.2f}-{self.a_y_max:.2f}]")
+
+
+def _ray_distance(walls: BaseGeometry | None, x: float, y: float, ux: float, uy: float) -> float | None:
+    if walls is None or walls.is_empty:
+        return None
+    ray = LineString([(x, y), (x + ux * MAX_SLAB_SPAN_M, y + uy * MAX_SLAB_SPAN_M)])
+    hit = ray.intersection(walls)
+    if hit.is_empty:
+        return None
+    d = float(Point(x, y).distance(hit))
+    return d if d > 1e-6 else None
+
+
+def _supports(pts: np.ndarray, i: int, walls: BaseGeometry | None, axis: int) -> tuple[float | None, float | None]:
+    """Distances from column i to the nearest support in -axis and +axis directions (None: none)."""
+    d = pts - pts[i]
+    par, perp = d[:, axis], d[:, 1 - axis]
+    out: list[float | None] = []
+    for sign in (-1.0, 1.0):
+        sel = (sign * par > 1e-6) & (np.abs(perp) <= _CONE * np.abs(par)) & (np.abs(par) <= MAX_SLAB_SPAN_M)
+        col = float(np.min(np.abs(par[sel]))) if np.any(sel) else None
+        u = (sign, 0.0) if axis == 0 else (0.0, sign)
+        wall = _ray_distance(walls, float(pts[i, 0]), float(pts[i, 1]), *u)
+        cands = [v for v in (col, wall) if v is not None]
+        out.append(min(cands) if cands else None)
+    return out[0], out[1]
+
+
+def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: str, length_m: float,
+                   top: SlabField | None, bottom: SlabField | None, fixed_base: bool,
+                   walls: BaseGeometry | None, stiffness: StiffnessSettings
+                   ) -> tuple[list[ColumnSpring], RestraintReport | None, list[str]]:
+    """Springs of a storey's columns and the restraint factors used (see module doc).
+
+    Args:
+        columns: the storey's columns.
+        level_index: floor on top of the storey.
+        length_m: storey height (floor to floor).
+        top, bottom: slabs at the column top (floor ``level_index``) and bottom (the floor below;
+            ignored when ``fixed_base``).
+        fixed_base: the storey stands on the fixed base (Muto's lowest-storey formula).
+        walls: union of the storey's wall footprints (supports for slab strips; columns inside are skipped).
+    Returns:
+        (springs, report or None when there are no columns, notes).
+    """
+    notes: list[str] = []
+    cols = list(columns)
+    if walls is not None and not walls.is_empty:
+        inside = [c for c in cols if walls.contains(c.section.centroid)]
+        if inside:
+            notes.append(f"{storey}: {len(inside)} column(s) inside walls count as part of the wall")
+            cols = [c for c in cols if c not in inside]
+    if not cols:
+        return [], None, notes
+    f_c = stiffness.column_flexure_factor
+    pts = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols], dtype=float)
+    inertias = [column_second_moments(c.section) for c in cols]
+
+    set_a = stiffness.column_restraint_factor
+    have_slab = bool(top) or (bool(bottom) and not fixed_base)
+    method = "settings" if set_a is not None else ("Muto D-value" if have_slab else "no slab (assumed)")
+    if set_a is None and not have_slab:
+        notes.append(f"{storey}: no slab to derive the column end restraint; a = {NO_SLAB_RESTRAINT:g} assumed")
+
+    # Spans and panel widths per column and direction (only needed for Muto).
+    spans: list[list[tuple[float | None, float | None]]] = []
+    if set_a is None and have_slab:
+        for i in range(len(cols)):
+            spans.append([_supports(pts, i, walls, 0), _supports(pts, i, walls, 1)])
+        found = [v for s in spans for pair in s for v in pair if v is not None]
+        field_area = max((top.area_m2 if top else 0.0), (bottom.area_m2 if bottom else 0.0))
+        if found:
+            typical = statistics.median(found)
+        elif field_area > 0:
+            typical = math.sqrt(field_area / len(cols))
+        else:
+            typical = 8.0
+        for s in spans:
+            for axis in (0, 1):
+                if s[axis] == (None, None):
+                    s[axis] = (typical, typical)
+
+    springs: list[ColumnSpring] = []
+    for i, c in enumerate(cols):
+        x, y = float(pts[i, 0]), float(pts[i, 1])
+        h = length_m
+        if stiffness.column_clear_height and top:
+            t_top, _ = top.at(x, y)
+            if 0 < t_top < 0.5 * length_m:
+                h = length_m - t_top
+        ixx, iyy, _ = inertias[i]
+        a_dir = []
+        for axis, i_bend in ((0, iyy), (1, ixx)):
+            if set_a is not None:
+                a_dir.append(float(set_a))
+                continue
+            if not have_slab:
+                a_dir.append(NO_SLAB_RESTRAINT)
+                continue
+            k_col = c.e_pa * f_c * i_bend / h
+            minus, plus = spans[i][axis]
+            across = [v for v in spans[i][1 - axis] if v is not None]
+
+            def strip_sum(field: SlabField | None) -> float:
+                if not field:
+                    return 0.0
+                t, e = field.at(x, y)
+                total = 0.0
+                for span in (minus, plus):
+                    if span is None:
+                        continue
+                    panel = statistics.fmean(across) if across else span
+                    b = stiffness.slab_strip_width_ratio * panel
+                    total += e * stiffness.slab_flexure_factor * b * t ** 3 / 12.0 / span
+                return total
+
+            if fixed_base:
+                k_bar = strip_sum(top) / k_col
+            else:
+                k_bar = (strip_sum(top) + strip_sum(bottom)) / (2.0 * k_col)
+            a_dir.append(muto_factor(k_bar, fixed_base=fixed_base))
+        k_x = a_dir[0] * 12.0 * c.e_pa * f_c * iyy / h ** 3
+        k_y = a_dir[1] * 12.0 * c.e_pa * f_c * ixx / h ** 3
+        springs.append(ColumnSpring(c.global_id, (x, y), k_x, k_y, a_dir[0], a_dir[1], h))
+    ax = [s.a_x for s in springs]
+    ay = [s.a_y for s in springs]
+    report = RestraintReport(level_index, storey, len(springs), method, statistics.fmean(ax), min(ax), max(ax),
+                             statistics.fmean(ay), min(ay), max(ay))
+    return springs, report, notes
+
+
+def frame_segment(springs: Sequence[ColumnSpring], level_index: int, length_m: float,
+                  system_id: str = "columns") -> Segment | None:
+    """All of a storey's column springs as one frame Segment at their centre of stiffness.
+
+    x_c = sum k_y x / sum k_y, y_c = sum k_x y / sum k_x;
+    k_twist = sum k_x (y - y_c)^2 + k_y (x - x_c)^2.
+    """
+    kx = sum(s.k_x_n_m for s in springs)
+    ky = sum(s.k_y_n_m for s in springs)
+    if kx <= 0 or ky <= 0:
+        return None
+    xc = sum(s.k_y_n_m * s.centre_m[0] for s in springs) / ky
+    yc = sum(s.k_x_n_m * s.centre_m[1] for s in springs) / kx
+    kt = sum(s.k_x_n_m * (s.centre_m[1] - yc) ** 2 + s.k_y_n_m * (s.centre_m[0] - xc) ** 2 for s in springs)
+    return Segment(system_id=system_id, kind="frame", level_index=level_index, length_m=length_m,
+                   centre_m=(xc, yc), k_x_n_m=kx, k_y_n_m=ky, k_twist_nm_rad=kt)
+
+
+def storey_stiffness_centre(segments: Sequence[Segment]) -> tuple[float, float] | None:
+    """Centre of stiffness of one storey's segments (module doc); None when nothing is stiff."""
+    sx = sy = kx_tot = ky_tot = 0.0
+    for s in segments:
+        if s.kind == "frame":
+            kx, ky = s.k_x_n_m, s.k_y_n_m
+        else:
+            kx = cantilever_storey_stiffness(s.ei_yy_nm2, s.ga_x_n, s.length_m)
+            ky = cantilever_storey_stiffness(s.ei_xx_nm2, s.ga_y_n, s.length_m)
+        kx_tot += kx
+        ky_tot += ky
+        sy += kx * s.centre_m[1]
+        sx += ky * s.centre_m[0]
+    if kx_tot <= 0 or ky_tot <= 0:
+        return None
+    return (sx / ky_tot, sy / kx_tot)
