@@ -49,7 +49,7 @@ from .materials import MaterialBook
 from .plan_moments import MassMoments, polygons_of
 from .takeoff import Slab, Wall
 
-__all__ = ["COMPONENTS", "LevelMass", "floor_masses", "plate_of", "opening_footprint", "mass_reference_point"]
+__all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
 
 COMPONENTS = ("slabs", "superimposed dead", "partitions", "facade", "live load", "walls", "columns",
               "bulk estimate")
@@ -177,12 +177,16 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     return walls, cols, loose
 
 
-def _nearest_with_slabs(floors: Sequence[Floor], i: int) -> Floor | None:
+def floor_slabs(floors: Sequence[Floor], i: int) -> tuple[tuple[Slab, ...], Floor | None]:
+    """The plate slabs of floor ``i``: its own, else those of the nearest floor below (else above)
+    that has slabs. Returns (slabs, the floor they were borrowed from or None)."""
+    if floors[i].slabs:
+        return floors[i].slabs, None
     below = [f for f in floors[:i] if f.slabs]
     if below:
-        return below[-1]
+        return below[-1].slabs, below[-1]
     above = [f for f in floors[i + 1:] if f.slabs]
-    return above[0] if above else None
+    return (above[0].slabs, above[0]) if above else ((), None)
 
 
 def _hull_of(floor: Floor) -> BaseGeometry | None:
@@ -213,12 +217,9 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
     out: list[LevelMass] = []
     borrowed: list[str] = []
     for i, f in enumerate(floors):
-        slabs = f.slabs
+        slabs, src = floor_slabs(floors, i)
         estimated = ""
-        if not slabs:
-            src = _nearest_with_slabs(floors, i)
-            assert src is not None  # any_slab
-            slabs = src.slabs
+        if src is not None:
             estimated = "borrowed"
             borrowed.append(f"'{f.name}' (from '{src.name}')")
         plate = plate_of(slabs)

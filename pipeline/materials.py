@@ -133,7 +133,8 @@ class ResolvedMaterial:
     notes: tuple[str, ...] = ()
 
     def describe(self) -> str:
-        return (f"{self.label} {self.origin} (E = {self.e_pa / 1e9:.1f} GPa, G = {self.g_pa / 1e9:.1f} GPa, "
+        what = self.origin if "assumed" in self.origin else f"{self.label} {self.origin}"
+        return (f"{what} (E = {self.e_pa / 1e9:.1f} GPa, G = {self.g_pa / 1e9:.1f} GPa, "
                 f"{self.density_kg_m3:,.0f} kg/m^3)")
 
 
@@ -221,6 +222,7 @@ def resolve_material(material: Material | None, settings: MaterialSettings) -> R
             notes.append(f"material '{name}': Poisson's ratio {material.poisson_ratio!r} is implausible, ignored")
     if cat == "concrete" and settings.dynamic_modulus_factor != 1.0:
         origin += f", dynamic modulus factor {settings.dynamic_modulus_factor:g}"
+    origin = origin.replace(f"default {cat} assumed", f"default {label} assumed")
     return ResolvedMaterial(cat, label, density, e, e / (2.0 * (1.0 + nu)), nu, origin, tuple(notes))
 
 
