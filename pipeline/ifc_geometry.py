@@ -1,0 +1,728 @@
+"""Parametric IFC geometry, read without tessellation.
+
+Placements are composed into 4x4 world matrices (translations in metres), memoised per
+``IfcLocalPlacement`` and per ``IfcAxis2Placement``. Bodies made of ``IfcExtrudedAreaSolid``
+(directly, through ``IfcMappedItem`` or as the first operand of half-space clippings) become
+:class:`Prism` objects: a plan profile polygon in its own plane, a matrix to world, an
+extrusion direction and depth. From a prism the reader takes the world plan footprint, the
+z range, the volume and the vertex cloud, all in closed form.
+
+Profiles become shapely polygons (metres, in the profile's own position), memoised per
+profile: rectangle, hollow rectangle, circle, hollow circle, ellipse, I (also asymmetric),
+L, U, T, C and Z shapes from their parameters (fillet and edge radii ignored: the corner
+fillets change a rolled section's area by a few per cent at most; common practice for
+concept-stage takeoff), arbitrary closed profiles (with voids) bounded by polylines,
+indexed poly-curves and composite curves (arcs approximated by chords every 5 degrees),
+derived and composite profiles.
+
+Circles use a 64-gon whose circumradius is scaled so the polygon has exactly the circle's
+area (R' = R sqrt(2 pi / (N sin(2 pi / N)))), so areas and centroids are exact.
+
+Only bodies with no parametric reading (B-reps, face sets, surface models, booleans other
+than half-space clipping) go through the geometry engine (:func:`mesh_body`).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely import affinity
+from shapely.geometry import MultiPolygon, Polygon
+from shapely.geometry.base import BaseGeometry
+
+from .errors import InputError
+
+__all__ = [
+    "NotParametric", "Prism", "Geometry", "MeshBody", "mesh_body", "polygonal",
+    "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical",
+    "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH",
+]
+
+ARC_STEP_RAD = math.radians(5.0)
+"""Chord step used to approximate arcs in composite and trimmed curves."""
+CIRCLE_SEGMENTS = 64
+"""Sides of the area-preserving polygon used for circular profiles."""
+MAX_PLACEMENT_DEPTH = 256
+"""Longest IfcLocalPlacement chain accepted (real models nest fewer than 10 levels)."""
+VERTICAL_TOL = 1e-4
+"""|1 - cos| below which an extrusion counts as vertical / a profile plane as horizontal (~0.8 deg)."""
+
+
+class NotParametric(Exception):
+    """The body (or a profile/curve in it) cannot be read parametrically."""
+
+
+@dataclass(frozen=True)
+class Prism:
+    """A straight extrusion in world coordinates.
+
+    Attributes:
+        profile: the swept area in its own plane (metres, local x/y).
+        matrix: 4x4, profile plane (local x, y; z = extrusion base) to world (metres).
+        direction: unit world extrusion direction.
+        depth_m: extrusion length along ``direction`` (m).
+        clipped: True when the solid was the first operand of a half-space clipping.
+    """
+
+    profile: Polygon | MultiPolygon
+    matrix: np.ndarray
+    direction: np.ndarray
+    depth_m: float
+    clipped: bool = False
+
+
+# ---------------------------------------------------------------------------- helpers
+
+def _coords(point) -> list[float]:
+    return [float(c) for c in point.Coordinates]
+
+
+def _ratios(direction, n: int = 3) -> np.ndarray:
+    r = [float(c) for c in direction.DirectionRatios]
+    r = (r + [0.0, 0.0, 0.0])[:n]
+    return np.array(r)
+
+
+def _unit(v: np.ndarray, fallback: np.ndarray) -> np.ndarray:
+    n = float(np.linalg.norm(v))
+    return v / n if n > 1e-12 else fallback
+
+
+def polygonal(geom: BaseGeometry) -> Polygon | MultiPolygon:
+    """The polygonal part of a geometry, made valid (empty Polygon when none)."""
+    if geom.is_empty:
+        return Polygon()
+    if not geom.is_valid:
+        geom = shapely.make_valid(geom)
+    if isinstance(geom, (Polygon, MultiPolygon)):
+        return geom
+    parts = [g for g in getattr(geom, "geoms", [geom]) if isinstance(g, (Polygon, MultiPolygon)) and not g.is_empty]
+    if not parts:
+        return Polygon()
+    u = shapely.union_all(parts)
+    return u if isinstance(u, (Polygon, MultiPolygon)) else Polygon()
+
+
+def circle_polygon(radius: float, segments: int = CIRCLE_SEGMENTS) -> Polygon:
+    """Area-preserving regular polygon for a circle of ``radius`` centred at the origin."""
+    n = segments
+    r = radius * math.sqrt(2.0 * math.pi / (n * math.sin(2.0 * math.pi / n)))
+    t = np.linspace(0.0, 2.0 * math.pi, n, endpoint=False)
+    return Polygon(np.column_stack([r * np.cos(t), r * np.sin(t)]))
+
+
+def _ellipse_polygon(a: float, b: float, segments: int = CIRCLE_SEGMENTS) -> Polygon:
+    n = segments
+    k = math.sqrt(2.0 * math.pi / (n * math.sin(2.0 * math.pi / n)))
+    t = np.linspace(0.0, 2.0 * math.pi, n, endpoint=False)
+    return Polygon(np.column_stack([k * a * np.cos(t), k * b * np.sin(t)]))
+
+
+def _arc_points(centre: np.ndarray, ex: np.ndarray, ey: np.ndarray, a: float, b: float,
+                t0: float, t1: float, ccw: bool) -> np.ndarray:
+    """Points on an elliptical (a=b: circular) arc from parameter angle t0 to t1."""
+    two_pi = 2.0 * math.pi
+    if ccw:
+        sweep = (t1 - t0) % two_pi
+    else:
+        sweep = -((t0 - t1) % two_pi)
+    if abs(sweep) < 1e-12:
+        sweep = two_pi if ccw else -two_pi
+    n = max(2, int(math.ceil(abs(sweep) / ARC_STEP_RAD)) + 1)
+    t = t0 + np.linspace(0.0, sweep, n)
+    return centre + np.outer(a * np.cos(t), ex) + np.outer(b * np.sin(t), ey)
+
+
+def _arc3(p0: np.ndarray, p1: np.ndarray, p2: np.ndarray) -> np.ndarray:
+    """Arc through three 2D points (start, mid, end), chord-approximated."""
+    ax, ay = p0
+    bx, by = p1
+    cx, cy = p2
+    d = 2.0 * (ax * (by - cy) + bx * (cy - ay) + cx * (ay - by))
+    if abs(d) < 1e-12:
+        return np.array([p0, p2])
+    ux = ((ax * ax + ay * ay) * (by - cy) + (bx * bx + by * by) * (cy - ay) + (cx * cx + cy * cy) * (ay - by)) / d
+    uy = ((ax * ax + ay * ay) * (cx - bx) + (bx * bx + by * by) * (ax - cx) + (cx * cx + cy * cy) * (bx - ax)) / d
+    c = np.array([ux, uy])
+    r = float(np.linalg.norm(p0 - c))
+    t0 = math.atan2(ay - uy, ax - ux)
+    tm = math.atan2(by - uy, bx - ux)
+    t2 = math.atan2(cy - uy, cx - ux)
+    ccw = ((tm - t0) % (2 * math.pi)) < ((t2 - t0) % (2 * math.pi))
+    return _arc_points(c, np.array([1.0, 0.0]), np.array([0.0, 1.0]), r, r, t0, t2, ccw)
+
+
+def _append(acc: list[np.ndarray], pts: np.ndarray) -> None:
+    if len(pts) == 0:
+        return
+    if acc and np.allclose(acc[-1][-1], pts[0], atol=1e-9 * max(1.0, float(np.abs(pts[0]).max()))):
+        pts = pts[1:]
+    if len(pts):
+        acc.append(pts)
+
+
+# ---------------------------------------------------------------------------- the reader
+
+class Geometry:
+    """Memoised placement, curve and profile reading for one open model.
+
+    Args:
+        scale: metres per file length unit.
+        angle: radians per file plane-angle unit (for trimmed-curve parameters).
+        wcs: the context's world coordinate system (4x4, metres).
+        where: file name used in error messages.
+    """
+
+    def __init__(self, scale: float, angle: float = 1.0, wcs: np.ndarray | None = None, where: str = "") -> None:
+        self.scale = float(scale)
+        self.angle = float(angle)
+        self.wcs = wcs if wcs is not None and not np.allclose(wcs, np.eye(4)) else None
+        self.where = where
+        self._axis: dict[int, np.ndarray] = {}
+        self._placement: dict[int, np.ndarray] = {}
+        self._profile: dict[int, Polygon | MultiPolygon] = {}
+        self._curve: dict[int, np.ndarray] = {}
+
+    # -- placements ------------------------------------------------------------------
+    def axis2(self, ap) -> np.ndarray:
+        """4x4 matrix of an IfcAxis2Placement2D/3D (translation in metres); memoised."""
+        if ap is None:
+            return np.eye(4)
+        key = ap.id()
+        m = self._axis.get(key)
+        if m is not None:
+            return m
+        m = np.eye(4)
+        loc = _coords(ap.Location) if ap.Location is not None and hasattr(ap.Location, "Coordinates") else [0.0]
+        loc = (loc + [0.0, 0.0, 0.0])[:3]
+        m[:3, 3] = np.array(loc) * self.scale
+        if ap.is_a("IfcAxis2Placement2D"):
+            x = _unit(_ratios(ap.RefDirection, 2), np.array([1.0, 0.0])) if ap.RefDirection else np.array([1.0, 0.0])
+            m[:2, 0] = x
+            m[:2, 1] = (-x[1], x[0])
+        else:
+            z = _unit(_ratios(ap.Axis), np.array([0.0, 0.0, 1.0])) if getattr(ap, "Axis", None) else np.array([0.0, 0.0, 1.0])
+            xr = _ratios(ap.RefDirection) if getattr(ap, "RefDirection", None) else np.array([1.0, 0.0, 0.0])
+            x = xr - float(xr @ z) * z
+            if np.linalg.norm(x) < 1e-9:  # RefDirection parallel to Axis: any perpendicular
+                x = np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
+                x = x - float(x @ z) * z
+            x = x / np.linalg.norm(x)
+            y = np.cross(z, x)
+            m[:3, 0], m[:3, 1], m[:3, 2] = x, y, z
+        self._axis[key] = m
+        return m
+
+    def placement(self, pl) -> np.ndarray:
+        """World 4x4 matrix of an IfcObjectPlacement, composed once per placement.
+
+        Raises:
+            InputError: on a cyclic or absurdly deep (> MAX_PLACEMENT_DEPTH) chain.
+        """
+        if pl is None:
+            return self.wcs.copy() if self.wcs is not None else np.eye(4)
+        cached = self._placement.get(pl.id())
+        if cached is not None:
+            return cached
+        chain = []
+        seen: set[int] = set()
+        cur = pl
+        base = None
+        while cur is not None:
+            cid = cur.id()
+            hit = self._placement.get(cid)
+            if hit is not None:
+                base = hit
+                break
+            if cid in seen:
+                raise InputError(f"{self.where}: placement #{cid} is part of a cycle (PlacementRelTo)")
+            if len(chain) >= MAX_PLACEMENT_DEPTH:
+                raise InputError(f"{self.where}: placement #{pl.id()} nests more than "
+                                 f"{MAX_PLACEMENT_DEPTH} levels deep")
+            seen.add(cid)
+            chain.append(cur)
+            cur = getattr(cur, "PlacementRelTo", None)
+        if base is None:
+            base = self.wcs if self.wcs is not None else np.eye(4)
+        for p in reversed(chain):
+            base = base @ self._relative(p)
+            self._placement[p.id()] = base
+        return base
+
+    def _relative(self, p) -> np.ndarray:
+        if p.is_a("IfcLocalPlacement"):
+            return self.axis2(p.RelativePlacement)
+        # Grid / linear placements: rare; let ifcopenshell evaluate them (file units).
+        import ifcopenshell.util.placement as up
+
+        try:
+            m = np.array(up.get_local_placement(p), dtype=float)
+        except Exception as exc:  # noqa: BLE001 - the library raises many types here
+            raise NotParametric(f"{p.is_a()} #{p.id()}: {exc}") from None
+        parent = getattr(p, "PlacementRelTo", None)
+        if parent is not None:  # get_local_placement already composed the parents
+            m = np.linalg.solve(np.array(up.get_local_placement(parent), dtype=float), m)
+        m[:3, 3] *= self.scale
+        return m
+
+    def transform_operator(self, op) -> np.ndarray:
+        """IfcCartesianTransformationOperator (2D/3D, uniform or not) as a 4x4 matrix."""
+        m = np.eye(4)
+        if op is None:
+            return m
+        origin = (_coords(op.LocalOrigin) + [0.0, 0.0, 0.0])[:3]
+        s1 = float(op.Scale) if getattr(op, "Scale", None) is not None else 1.0
+        s2 = float(getattr(op, "Scale2", None) or s1) if hasattr(op, "Scale2") else s1
+        s3 = float(getattr(op, "Scale3", None) or s1) if hasattr(op, "Scale3") else s1
+        a1 = _ratios(op.Axis1) if op.Axis1 is not None else None
+        a2 = _ratios(op.Axis2) if op.Axis2 is not None else None
+        a3 = _ratios(op.Axis3) if getattr(op, "Axis3", None) is not None else None
+        # IFC BaseAxis function: z first, then x projected, then y completes the frame.
+        z = _unit(a3, np.array([0.0, 0.0, 1.0])) if a3 is not None else np.array([0.0, 0.0, 1.0])
+        x = a1 if a1 is not None else (np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0]))
+        x = x - float(x @ z) * z
+        x = _unit(x, np.array([1.0, 0.0, 0.0]))
+        y = np.cross(z, x)
+        if a2 is not None and float(a2 @ y) < 0:  # keep a mirrored frame when Axis2 says so
+            y = -y
+        m[:3, 0], m[:3, 1], m[:3, 2] = x * s1, y * s2, z * s3
+        m[:3, 3] = np.array(origin) * self.scale
+        return m
+
+    # -- curves ----------------------------------------------------------------------
+    def curve_points(self, curve) -> np.ndarray:
+        """2D points (file units) along a bounded curve; memoised; arcs chord-approximated."""
+        key = curve.id()
+        pts = self._curve.get(key)
+        if pts is None:
+            pts = self._curve_points(curve, 0)
+            self._curve[key] = pts
+        return pts
+
+    def _curve_points(self, c, depth: int) -> np.ndarray:
+        if depth > 32:
+            raise NotParametric("curve nesting too deep")
+        t = c.is_a()
+        if t == "IfcPolyline":
+            return np.array([(_coords(p) + [0.0])[:2] for p in c.Points], dtype=float)
+        if t == "IfcIndexedPolyCurve":
+            coords = np.array([[float(v) for v in row[:2]] for row in c.Points.CoordList], dtype=float)
+            if not c.Segments:
+                return coords
+            acc: list[np.ndarray] = []
+            for seg in c.Segments:
+                idx = [int(i) - 1 for i in seg.wrappedValue]
+                if seg.is_a("IfcArcIndex") and len(idx) == 3:
+                    _append(acc, _arc3(coords[idx[0]], coords[idx[1]], coords[idx[2]]))
+                else:
+                    _append(acc, coords[idx])
+            return np.vstack(acc) if acc else np.zeros((0, 2))
+        if c.is_a("IfcCompositeCurve"):
+            acc = []
+            for seg in c.Segments:
+                parent = getattr(seg, "ParentCurve", None)
+                if parent is None:
+                    raise NotParametric(f"composite curve segment {seg.is_a()}")
+                p = self._curve_points(parent, depth + 1)
+                if getattr(seg, "SameSense", True) is False:
+                    p = p[::-1]
+                _append(acc, p)
+            return np.vstack(acc) if acc else np.zeros((0, 2))
+        if t == "IfcTrimmedCurve":
+            return self._trimmed(c, depth)
+        if t in ("IfcCircle", "IfcEllipse"):
+            m = self.axis2(c.Position)
+            a = float(c.Radius) if t == "IfcCircle" else float(c.SemiAxis1)
+            b = float(c.Radius) if t == "IfcCircle" else float(c.SemiAxis2)
+            centre = m[:2, 3] / self.scale
+            return _arc_points(centre, m[:2, 0], m[:2, 1], a, b, 0.0, 2 * math.pi, True)[:-1]
+        raise NotParametric(f"curve {t}")
+
+    def _trim_value(self, trims, basis, centre, ex, ey, a, b, master: str):
+        """Angle (conic) or line parameter for a trim select list."""
+        param = point = None
+        for tsel in trims or ():
+            if tsel.is_a("IfcCartesianPoint"):
+                point = np.array((_coords(tsel) + [0.0])[:2])
+            else:  # IfcParameterValue
+                param = float(tsel.wrappedValue)
+        use_param = param is not None and (point is None or master == "PARAMETER")
+        conic = basis.is_a("IfcCircle") or basis.is_a("IfcEllipse")
+        if use_param:
+            return param * self.angle if conic else param
+        if point is None:
+            raise NotParametric("trimmed curve without trim values")
+        d = point - centre
+        if conic:
+            return math.atan2(float(d @ ey) / b, float(d @ ex) / a)
+        return float(d @ ex) / a  # a = |Dir| for a line
+
+    def _trimmed(self, c, depth: int) -> np.ndarray:
+        basis = c.BasisCurve
+        master = str(getattr(c, "MasterRepresentation", "") or "")
+        sense = bool(c.SenseAgreement) if c.SenseAgreement is not None else True
+        if basis.is_a("IfcLine"):
+            p0 = np.array((_coords(basis.Pnt) + [0.0])[:2])
+            d = _ratios(basis.Dir.Orientation, 2) * float(basis.Dir.Magnitude)
+            mag = float(np.linalg.norm(d))
+            if mag < 1e-12:
+                raise NotParametric("trimmed line with zero direction")
+            ex = d / mag
+            t0 = self._trim_value(c.Trim1, basis, p0, ex, None, mag, mag, master)
+            t1 = self._trim_value(c.Trim2, basis, p0, ex, None, mag, mag, master)
+            return np.array([p0 + t0 * d, p0 + t1 * d])
+        if basis.is_a("IfcCircle") or basis.is_a("IfcEllipse"):
+            m = self.axis2(basis.Position)
+            centre = m[:2, 3] / self.scale
+            ex, ey = m[:2, 0], m[:2, 1]
+            if basis.is_a("IfcCircle"):
+                a = b = float(basis.Radius)
+            else:
+                a, b = float(basis.SemiAxis1), float(basis.SemiAxis2)
+            t0 = self._trim_value(c.Trim1, basis, centre, ex, ey, a, b, master)
+            t1 = self._trim_value(c.Trim2, basis, centre, ex, ey, a, b, master)
+            # Parameters run from ex towards ey of the conic's own (possibly mirrored) frame.
+            return _arc_points(centre, ex, ey, a, b, t0, t1, sense)
+        if basis.is_a("IfcPolyline") or basis.is_a("IfcCompositeCurve") or basis.is_a("IfcIndexedPolyCurve"):
+            pts = self._curve_points(basis, depth + 1)
+            p1 = [t for t in c.Trim1 or () if t.is_a("IfcCartesianPoint")]
+            p2 = [t for t in c.Trim2 or () if t.is_a("IfcCartesianPoint")]
+            if p1 and p2:
+                return np.array([(_coords(p1[0]) + [0.0])[:2], (_coords(p2[0]) + [0.0])[:2]])
+            return pts if sense else pts[::-1]
+        raise NotParametric(f"trimmed {basis.is_a()}")
+
+    def curve_polygon_ring(self, curve) -> np.ndarray:
+        """Closed ring (metres) of a profile boundary curve."""
+        pts = self.curve_points(curve) * self.scale
+        if len(pts) and np.allclose(pts[0], pts[-1], atol=1e-9):
+            pts = pts[:-1]
+        if len(pts) < 3:
+            raise NotParametric("profile boundary with fewer than three points")
+        return pts
+
+    # -- profiles --------------------------------------------------------------------
+    def profile(self, prof) -> Polygon | MultiPolygon:
+        """Polygon (metres, profile coordinates incl. the profile's Position); memoised."""
+        key = prof.id()
+        poly = self._profile.get(key)
+        if poly is None:
+            poly = self._profile_polygon(prof, 0)
+            self._profile[key] = poly
+        return poly
+
+    def _profile_polygon(self, p, depth: int) -> Polygon | MultiPolygon:
+        if depth > 16:
+            raise NotParametric("profile nesting too deep")
+        s = self.scale
+        t = p.is_a()
+
+        def g(name: str, default: float | None = None) -> float:
+            v = getattr(p, name, None)
+            if v is None:
+                if default is None:
+                    raise NotParametric(f"{t} #{p.id()} without {name}")
+                return default
+            return float(v) * s
+
+        if p.is_a("IfcArbitraryClosedProfileDef"):
+            outer = Polygon(self.curve_polygon_ring(p.OuterCurve))
+            if p.is_a("IfcArbitraryProfileDefWithVoids"):
+                holes = [Polygon(self.curve_polygon_ring(c)) for c in p.InnerCurves or ()]
+                poly = outer if outer.is_valid else polygonal(outer)
+                if holes:
+                    poly = poly.difference(shapely.union_all([polygonal(h) for h in holes]))
+            else:
+                poly = outer
+        elif t == "IfcArbitraryOpenProfileDef" or t == "IfcCenterLineProfileDef":
+            if t != "IfcCenterLineProfileDef":
+                raise NotParametric("open profile")
+            line = shapely.LineString(self.curve_points(p.Curve) * s)
+            poly = line.buffer(g("Thickness") / 2.0, cap_style="flat", join_style="mitre")
+        elif t == "IfcDerivedProfileDef":
+            parent = self._profile_polygon(p.ParentProfile, depth + 1)
+            m = self.transform_operator(p.Operator)
+            poly = affinity.affine_transform(parent, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
+        elif t == "IfcCompositeProfileDef":
+            poly = shapely.union_all([self._profile_polygon(q, depth + 1) for q in p.Profiles])
+        elif p.is_a("IfcRectangleHollowProfileDef"):
+            x, y, w = g("XDim"), g("YDim"), g("WallThickness")
+            poly = shapely.box(-x / 2, -y / 2, x / 2, y / 2)
+            if 2 * w < min(x, y):
+                poly = poly.difference(shapely.box(-x / 2 + w, -y / 2 + w, x / 2 - w, y / 2 - w))
+        elif p.is_a("IfcRectangleProfileDef"):
+            x, y = g("XDim"), g("YDim")
+            poly = shapely.box(-x / 2, -y / 2, x / 2, y / 2)
+        elif p.is_a("IfcCircleHollowProfileDef"):
+            r, w = g("Radius"), g("WallThickness")
+            poly = circle_polygon(r)
+            if w < r:
+                poly = Polygon(poly.exterior.coords, [circle_polygon(r - w).exterior.coords[::-1]])
+        elif p.is_a("IfcCircleProfileDef"):
+            poly = circle_polygon(g("Radius"))
+        elif p.is_a("IfcEllipseProfileDef"):
+            poly = _ellipse_polygon(g("SemiAxis1"), g("SemiAxis2"))
+        elif p.is_a("IfcAsymmetricIShapeProfileDef"):
+            d = g("OverallDepth")
+            tw = g("WebThickness")
+            bb = g("BottomFlangeWidth", None) if hasattr(p, "BottomFlangeWidth") else g("OverallWidth")
+            tb = g("BottomFlangeThickness", None) if hasattr(p, "BottomFlangeThickness") else g("FlangeThickness")
+            bt = g("TopFlangeWidth")
+            tt = g("TopFlangeThickness", tb)
+            pts = [(-bb / 2, 0), (bb / 2, 0), (bb / 2, tb), (tw / 2, tb), (tw / 2, d - tt), (bt / 2, d - tt),
+                   (bt / 2, d), (-bt / 2, d), (-bt / 2, d - tt), (-tw / 2, d - tt), (-tw / 2, tb), (-bb / 2, tb)]
+            poly = affinity.translate(Polygon(pts), 0.0, -d / 2)
+        elif p.is_a("IfcIShapeProfileDef"):
+            b, d, tw, tf = g("OverallWidth"), g("OverallDepth"), g("WebThickness"), g("FlangeThickness")
+            h = d / 2
+            pts = [(-b / 2, -h), (b / 2, -h), (b / 2, -h + tf), (tw / 2, -h + tf), (tw / 2, h - tf), (b / 2, h - tf),
+                   (b / 2, h), (-b / 2, h), (-b / 2, h - tf), (-tw / 2, h - tf), (-tw / 2, -h + tf), (-b / 2, -h + tf)]
+            poly = Polygon(pts)
+        elif p.is_a("IfcLShapeProfileDef"):
+            d = g("Depth")
+            w = g("Width") if getattr(p, "Width", None) is not None else d
+            th = g("Thickness")
+            x0, y0 = -w / 2, -d / 2
+            poly = Polygon([(x0, y0), (x0 + w, y0), (x0 + w, y0 + th), (x0 + th, y0 + th), (x0 + th, y0 + d), (x0, y0 + d)])
+        elif p.is_a("IfcUShapeProfileDef"):
+            d, b, tw, tf = g("Depth"), g("FlangeWidth"), g("WebThickness"), g("FlangeThickness")
+            x0, y0 = -b / 2, -d / 2
+            poly = Polygon([(x0, y0), (x0 + b, y0), (x0 + b, y0 + tf), (x0 + tw, y0 + tf), (x0 + tw, y0 + d - tf),
+                            (x0 + b, y0 + d - tf), (x0 + b, y0 + d), (x0, y0 + d)])
+        elif p.is_a("IfcTShapeProfileDef"):
+            d, b, tw, tf = g("Depth"), g("FlangeWidth"), g("WebThickness"), g("FlangeThickness")
+            h = d / 2
+            poly = Polygon([(-b / 2, h), (-b / 2, h - tf), (-tw / 2, h - tf), (-tw / 2, -h), (tw / 2, -h),
+                            (tw / 2, h - tf), (b / 2, h - tf), (b / 2, h)])
+        elif p.is_a("IfcCShapeProfileDef"):
+            d, w, th = g("Depth"), g("Width"), g("WallThickness")
+            gi = g("Girth", 0.0)
+            x0, y0 = -w / 2, -d / 2
+            if gi > th:
+                pts = [(x0, y0), (x0 + w, y0), (x0 + w, y0 + gi), (x0 + w - th, y0 + gi), (x0 + w - th, y0 + th),
+                       (x0 + th, y0 + th), (x0 + th, y0 + d - th), (x0 + w - th, y0 + d - th),
+                       (x0 + w - th, y0 + d - gi), (x0 + w, y0 + d - gi), (x0 + w, y0 + d), (x0, y0 + d)]
+            else:
+                pts = [(x0, y0), (x0 + w, y0), (x0 + w, y0 + th), (x0 + th, y0 + th), (x0 + th, y0 + d - th),
+                       (x0 + w, y0 + d - th), (x0 + w, y0 + d), (x0, y0 + d)]
+            poly = Polygon(pts)
+        elif p.is_a("IfcZShapeProfileDef"):
+            d, b, tw, tf = g("Depth"), g("FlangeWidth"), g("WebThickness"), g("FlangeThickness")
+            h = d / 2
+            poly = Polygon([(-b + tw / 2, -h), (tw / 2, -h), (tw / 2, h - tf), (b - tw / 2, h - tf), (b - tw / 2, h),
+                            (-tw / 2, h), (-tw / 2, -h + tf), (-b + tw / 2, -h + tf)])
+        else:
+            raise NotParametric(f"profile {t}")
+
+        pos = getattr(p, "Position", None) if p.is_a("IfcParameterizedProfileDef") else None
+        if pos is not None:
+            m = self.axis2(pos)
+            poly = affinity.affine_transform(poly, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
+        poly = polygonal(poly)
+        if poly.is_empty or poly.area <= 0.0:
+            raise NotParametric(f"{t} #{p.id()} has no area")
+        return poly
+
+    # -- bodies ----------------------------------------------------------------------
+    def items_prisms(self, items, base: np.ndarray) -> tuple[list[Prism], bool]:
+        """Prisms of representation items, placed by ``base`` (the object's world matrix).
+
+        Returns the prisms and whether any half-space clipping was dropped.
+
+        Raises:
+            NotParametric: for any item that is not an extrusion, a mapped extrusion or a
+                half-space clipping of one.
+        """
+        out: list[Prism] = []
+        clipped = False
+        for it in items:
+            prisms, c = self._item(it, base, 0)
+            out.extend(prisms)
+            clipped = clipped or c
+        return out, clipped
+
+    def _item(self, it, base: np.ndarray, depth: int) -> tuple[list[Prism], bool]:
+        if depth > 16:
+            raise NotParametric("representation nesting too deep")
+        t = it.is_a()
+        if t == "IfcExtrudedAreaSolid":
+            return [self._extrusion(it, base)], False
+        if t in ("IfcBooleanClippingResult", "IfcBooleanResult"):
+            op = str(it.Operator)
+            second = it.SecondOperand
+            if op == "DIFFERENCE" and second is not None and second.is_a("IfcHalfSpaceSolid"):
+                prisms, _ = self._item(it.FirstOperand, base, depth + 1)
+                return [Prism(p.profile, p.matrix, p.direction, p.depth_m, True) for p in prisms], True
+            if op == "UNION":
+                a, ca = self._item(it.FirstOperand, base, depth + 1)
+                b, cb = self._item(second, base, depth + 1)
+                return a + b, ca or cb
+            raise NotParametric(f"{t} {op} with {second.is_a() if second is not None else 'nothing'}")
+        if t == "IfcMappedItem":
+            src = it.MappingSource
+            m = base @ self.transform_operator(it.MappingTarget) @ self.axis2(src.MappingOrigin)
+            out: list[Prism] = []
+            clipped = False
+            for sub in src.MappedRepresentation.Items:
+                p, c = self._item(sub, m, depth + 1)
+                out.extend(p)
+                clipped = clipped or c
+            return out, clipped
+        raise NotParametric(t)
+
+    def _extrusion(self, solid, base: np.ndarray) -> Prism:
+        profile = self.profile(solid.SweptArea)
+        m = base @ self.axis2(solid.Position)
+        d_local = _unit(_ratios(solid.ExtrudedDirection), np.array([0.0, 0.0, 1.0]))
+        v = m[:3, :3] @ (d_local * float(solid.Depth) * self.scale)
+        depth = float(np.linalg.norm(v))
+        direction = v / depth if depth > 0 else m[:3, 2]
+        if float(solid.Depth) < 0:
+            depth = -depth
+        return Prism(profile, m, direction, depth)
+
+
+# ---------------------------------------------------------------------------- prism maths
+
+def prism_is_vertical(p: Prism) -> bool:
+    """True when the profile plane is horizontal and the extrusion vertical."""
+    nz = p.matrix[:3, 2]
+    nz = nz / max(float(np.linalg.norm(nz)), 1e-300)
+    return abs(abs(float(nz[2])) - 1.0) < VERTICAL_TOL and abs(abs(float(p.direction[2])) - 1.0) < VERTICAL_TOL
+
+
+def _rings(poly: Polygon | MultiPolygon) -> list[np.ndarray]:
+    polys = poly.geoms if isinstance(poly, MultiPolygon) else [poly]
+    out = []
+    for q in polys:
+        out.append(np.asarray(q.exterior.coords))
+        out.extend(np.asarray(r.coords) for r in q.interiors)
+    return out
+
+
+def _to_world(p: Prism, xy: np.ndarray) -> np.ndarray:
+    m = p.matrix
+    return xy @ m[:3, :2].T + m[:3, 3]
+
+
+def prism_vertices(p: Prism) -> np.ndarray:
+    """World vertices (n, 3) of the prism's base and top outer rings."""
+    polys = p.profile.geoms if isinstance(p.profile, MultiPolygon) else [p.profile]
+    ring = np.vstack([np.asarray(q.exterior.coords) for q in polys])
+    base = _to_world(p, ring)
+    return np.vstack([base, base + p.direction * p.depth_m])
+
+
+def prism_zrange(p: Prism) -> tuple[float, float]:
+    """Lowest and highest world z of the prism (m)."""
+    v = prism_vertices(p)
+    return float(v[:, 2].min()), float(v[:, 2].max())
+
+
+def prism_volume(p: Prism) -> float:
+    """Volume (m^3): profile area x depth x |cos| between extrusion and profile normal."""
+    cols = p.matrix[:3, :3]
+    # area scale of the profile plane (mapped items may scale), and the normal component.
+    cross = np.cross(cols[:, 0], cols[:, 1])
+    return float(p.profile.area * abs(float(cross @ p.direction)) * abs(p.depth_m))
+
+
+def prism_footprint(p: Prism) -> Polygon | MultiPolygon:
+    """World plan projection of the prism (exact, as a polygon)."""
+    m = p.matrix
+    if prism_is_vertical(p):
+        return polygonal(affinity.affine_transform(p.profile, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]]))
+    # Minkowski sum of the projected profile with the projected extrusion vector:
+    # base and top faces plus every boundary edge swept along the extrusion.
+    v = p.direction[:2] * p.depth_m
+    quads = []
+    for ring in _rings(p.profile):
+        w = _to_world(p, ring)[:, :2]
+        a, b = w[:-1], w[1:]
+        q = np.stack([a, b, b + v, a + v, a], axis=1)
+        quads.append(q)
+    q = np.concatenate(quads)
+    polys = list(shapely.polygons(q))
+    base = affinity.affine_transform(p.profile, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
+    parts = [g for g in polys + [base, affinity.translate(base, float(v[0]), float(v[1]))]
+             if g.is_valid and g.area > 1e-12]
+    return polygonal(shapely.union_all(parts)) if parts else Polygon()
+
+
+# ---------------------------------------------------------------------------- mesh fallback
+
+@dataclass(frozen=True)
+class MeshBody:
+    """What the reader takes from a tessellated body (world metres).
+
+    Attributes:
+        footprint: plan projection (union of the projected non-vertical triangles; the
+            convex hull above ``MAX_UNION_TRIANGLES`` triangles, for speed).
+        zmin, zmax: vertical extent (m).
+        volume_m3: enclosed volume (divergence theorem; meaningful for closed shells only).
+        sloped: True when most of the upward-facing area is inclined more than 5 degrees.
+        vertices: (n, 3) array.
+    """
+
+    footprint: Polygon | MultiPolygon
+    zmin: float
+    zmax: float
+    volume_m3: float
+    sloped: bool
+    vertices: np.ndarray
+
+
+MAX_UNION_TRIANGLES = 20000
+
+
+_SETTINGS = None
+
+
+def _geom_settings():
+    global _SETTINGS
+    if _SETTINGS is None:
+        import ifcopenshell.geom
+
+        s = ifcopenshell.geom.settings()
+        s.set("use-world-coords", True)
+        s.set("disable-opening-subtractions", True)
+        _SETTINGS = s
+    return _SETTINGS
+
+
+def mesh_body(element) -> MeshBody | None:
+    """Tessellate one element with the geometry engine (openings not subtracted).
+
+    Returns None when the engine produces nothing.
+    """
+    import ifcopenshell.geom
+
+    try:
+        shape = ifcopenshell.geom.create_shape(_geom_settings(), element)
+    except Exception:  # noqa: BLE001 - the engine raises RuntimeError and others
+        return None
+    verts = np.asarray(shape.geometry.verts, dtype=float).reshape(-1, 3)
+    faces = np.asarray(shape.geometry.faces, dtype=np.int64).reshape(-1, 3)
+    if len(verts) == 0 or len(faces) == 0:
+        return None
+    tri = verts[faces]
+    n = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+    area2 = np.linalg.norm(n, axis=1)
+    volume = float(abs(np.einsum("ij,ij->i", tri[:, 0], np.cross(tri[:, 1], tri[:, 2])).sum()) / 6.0)
+    keep = (np.abs(n[:, 2]) > 1e-9 * area2) & (area2 > 1e-14)
+    planar = tri[keep][:, :, :2]
+    if len(planar) == 0:
+        footprint: Polygon | MultiPolygon = Polygon()
+    elif len(planar) > MAX_UNION_TRIANGLES:
+        footprint = polygonal(shapely.MultiPoint(planar.reshape(-1, 2)).convex_hull)
+    else:
+        closed = np.concatenate([planar, planar[:, :1]], axis=1)
+        footprint = polygonal(shapely.union_all(shapely.polygons(closed)))
+    up = n[:, 2] > 0
+    cosang = np.where(area2 > 0, n[:, 2] / np.maximum(area2, 1e-300), 0.0)
+    up_area = float(area2[up].sum())
+    inclined = float(area2[up & (cosang < math.cos(math.radians(5.0)))].sum())
+    sloped = up_area > 0 and inclined > 0.5 * up_area
+    return MeshBody(footprint, float(verts[:, 2].min()), float(verts[:, 2].max()), volume, sloped, verts)
