@@ -74,7 +74,9 @@ from collections import defaultdict
 from collections.abc import Sequence
 
 import numpy as np
-from scipy.linalg import cho_factor, cho_solve, LinAlgError
+from functools import lru_cache
+
+from scipy.linalg import LinAlgError, cho_factor, solveh_banded
 
 from .errors import InputError
 from .stick import Level, Segment, StickModel
@@ -218,7 +220,13 @@ def beam_element(
     moments), node 1 at the bottom. Built from the exact cantilever flexibility (module
     doc); ``ga_* <= 0`` means shear deformation neglected in that direction.
     """
-    L = float(length)
+    return _beam_element(float(ei_xx), float(ei_yy), float(ei_xy), float(ga_x), float(ga_y), float(length)).copy()
+
+
+@lru_cache(maxsize=4096)
+def _beam_element(ei_xx: float, ei_yy: float, ei_xy: float, ga_x: float, ga_y: float, length: float) -> np.ndarray:
+    """Cached :func:`beam_element` (segments repeat over the height); read-only result."""
+    L = length
     dm = np.array([[ei_yy, ei_xy], [ei_xy, ei_xx]], dtype=float)
     dinv = np.linalg.inv(dm)
     sinv = np.diag([1.0 / ga_x if ga_x > 0 else 0.0, 1.0 / ga_y if ga_y > 0 else 0.0])
@@ -231,7 +239,9 @@ def beam_element(
     t = np.block([[-eye, -L * eye, eye, zero], [zero, -eye, zero, eye]])
     kff = np.linalg.inv(flex)
     kff = 0.5 * (kff + kff.T)
-    return t.T @ kff @ t
+    ke = t.T @ kff @ t
+    ke.setflags(write=False)
+    return ke
 
 
 def _plan_map(centre: Sequence[float], origin: Sequence[float]) -> np.ndarray:
@@ -312,7 +322,7 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     nloc = nq + 2 * len(bpos)
     kl = np.zeros((nloc, nloc))
     for e, s in enumerate(run):
-        ke = beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
+        ke = _beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
         amap = _plan_map(s.centre_m, origin)
         # compact map from the element's own freedoms to the (at most 10) local ones it touches
         cols: list[int] = []
@@ -334,7 +344,12 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
         kl[np.ix_(cols, cols)] += gm.T @ ke @ gm
     kqq, kqb, kbb = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
     # static condensation of the slopes (they carry no mass): K* = Kqq - Kqb Kbb^-1 Kbq
-    kc = kqq - kqb @ cho_solve(cho_factor(kbb), kqb.T)
+    # Kbb couples only neighbouring nodes (2 slopes each): half-bandwidth 3, banded Cholesky
+    bw = min(3, kbb.shape[0] - 1)
+    ab = np.zeros((bw + 1, kbb.shape[0]))
+    for k in range(bw + 1):
+        ab[bw - k, k:] = np.diagonal(kbb, k)
+    kc = kqq - kqb @ solveh_banded(ab, kqb.T)
     idx = np.array([3 * f + c for f in floors for c in range(3)])
     kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
 

@@ -232,21 +232,24 @@ def modal_analysis(
         n_modes = ndof
     kp = k0 + geometric_stiffness(stick, g)
     stable = is_positive_definite(kp)
-    w2_0 = float(eigh(k0, mm, eigvals_only=True, subset_by_index=[0, 0])[0])
-    t1_without = _period(w2_0)
-    if stable:
-        t1_with = _period(float(eigh(kp, mm, eigvals_only=True, subset_by_index=[0, 0])[0]))
-    else:
-        t1_with = math.inf
-        if p_delta:
-            warnings.append(
-                "P-Delta: the building is unstable under its own weight (stiffness with the geometric "
-                "term is not positive definite); modes reported without P-Delta"
-            )
+    if p_delta and not stable:
+        warnings.append(
+            "P-Delta: the building is unstable under its own weight (stiffness with the geometric "
+            "term is not positive definite); modes reported without P-Delta"
+        )
     use_pd = p_delta and stable
     kk = kp if use_pd else k0
-
     w2, vecs = _solve(kk, mm, n_modes)
+
+    def first_period(k: np.ndarray) -> float:
+        return _period(float(eigh(k, mm, eigvals_only=True, subset_by_index=[0, 0])[0]))
+
+    if use_pd:
+        t1_with, t1_without = _period(float(w2[0])), first_period(k0)
+    else:
+        t1_without = _period(float(w2[0]))
+        t1_with = first_period(kp) if stable else math.inf
+
     masses = np.array([lv.mass_kg for lv in stick.levels])
     polars = np.array([lv.polar_moment_kg_m2 for lv in stick.levels])
     radii = np.sqrt(polars / masses)
