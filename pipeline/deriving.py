@@ -114,7 +114,7 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
     """Segments of floor ``j``'s storey built from the elements of ``storeys``."""
     f = layout.floors[j]
     segs: list[Segment] = []
-    walls_by_id = {w.global_id: w for s in storeys for w in s.walls}
+    walls_by_id = {w.global_id: w for w in layout.walls}
     seen: set[str] = set()
     for s in storeys:
         for sysn in systems.get(s.global_id, ()):

@@ -21,6 +21,10 @@ Per floor (see :mod:`swayscreen.pipeline.floors` for which floors exist), compon
   are subtracted: each is a hole of its width x wall thickness in plan over its sill-head
   height, lumped the same way. Volumes are summed per element (element footprints are
   not unioned); a core drawn with centreline dimensions and mitred corners is exact.
+  Walls that are not structural by the rule of :mod:`swayscreen.pipeline.cores`
+  (``LoadBearing`` false, or no flag and thinner than 0.15 m) are partitions or cladding:
+  the partition and facade allowances stand for them, so they add no wall mass (a note
+  says how many).
 
 Mass centre and polar moment: every component is spread uniformly over its plan shape
 (slab polygons, the plate, the perimeter line, each wall/column footprint, the opening
@@ -44,6 +48,7 @@ from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
 
 from .core_settings import G, LoadSettings
+from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_shares
 from .materials import MaterialBook
 from .plan_moments import MassMoments, polygons_of
@@ -135,7 +140,11 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     cols = [MassMoments(ref) for _ in range(n)]
     loose = [MassMoments(ref) for _ in range(n)]
     skipped = 0
+    partitions: list[float] = []
     for w in layout.walls:
+        if w.load_bearing is False or (w.load_bearing is None and 0 < w.thickness_m < PARTITION_MAX_THICKNESS_M):
+            partitions.append(w.plan_area_m2 * w.height_m)
+            continue
         mat = book.get(w.material, "walls")
         if w.height_m <= 0 or w.footprint is None or w.footprint.is_empty or w.footprint.area <= 0:
             skipped += 1
@@ -172,6 +181,9 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
         for i, f in enumerate(vertical_shares(nodes, z - 1e-3, z + 1e-3)):
             if f:
                 loose[i].add_area(m * f, sl.footprint)
+    if partitions:
+        warnings.append(f"{len(partitions)} non-load-bearing or partition wall(s) ({sum(partitions):,.0f} m^3) "
+                        "left to the partition and facade allowances, not counted as wall mass")
     if skipped:
         warnings.append(f"{skipped} wall(s)/column(s) with no height or plan area carry no mass")
     return walls, cols, loose
