@@ -1,0 +1,602 @@
+"""Finding the lateral systems (cores and separate walls) of each storey from the takeoff walls.
+
+Rules (DEVELOPERS.md quotes this block):
+
+1. **Which walls count.** A wall flagged ``LoadBearing = false`` is not part of the
+   lateral system. A wall with no flag that is thinner than
+   :data:`PARTITION_MAX_THICKNESS_M` (0.15 m) is taken for a partition and left out too
+   (common practice: concrete shear walls of towers are 0.2 m and thicker; blockwork and
+   stud partitions are 0.05-0.15 m). A wall flagged load-bearing always counts, however
+   thin. ``load_bearing_only=True`` keeps only walls flagged load-bearing.
+2. **Cores.** Walls whose footprints touch or overlap in plan (within
+   :data:`JOIN_TOL_M`, 0.05 m) are joined in a graph (networkx); each connected component
+   of two or more walls is a core, a component of one wall is a separate wall (its own
+   cantilever). The walls' centre lines are joined into one network: where two axes (or
+   their extensions by half the other wall's thickness, divided by the sine of the angle
+   between them, plus the tolerance) cross, both get a node there; wall ends are trimmed
+   or extended to a junction that close, so the stubs at corners disappear. Collinear walls
+   that meet end to end join at the middle of the gap or overlap.
+3. **Closed cells.** The bounded faces of the centre-line network are the closed cells
+   (torsion by Bredt-Batho, see :mod:`.sections`).
+4. **Door rule.** An opening whose lintel (wall left above the opening head, up to the
+   wall top: ``height_m - head_m``) is shallower than
+   ``StiffnessSettings.lintel_min_depth_m`` (0.4 m by default), or that has no lintel at all,
+   cuts its wall through: the wall piece it sits in is slit at the opening's centre and
+   carries no circulating shear flow. The cells are then the faces of the uncut network,
+   so a cut in an outside wall opens that cell (St Venant), and a cut in a web shared by
+   two cells merges them into one larger cell. A cell all of whose wall openings keep a
+   lintel at least that deep stays closed. The wall below a window sill is not counted
+   (on the safe side). The cut also changes the shear centre, as for a slit tube.
+5. **Override.** ``StiffnessSettings.core_cells = "closed"`` ignores all openings (every
+   cell closed); ``"open"`` makes every cell act open for torsion (J from St Venant only)
+   while the shear centre keeps the uncut topology. ``"auto"`` applies rule 4.
+   Each system's ``note`` says which rule decided and names the openings that cut.
+6. **Section.** Area, centroid and bending constants from the union of the footprints
+   (openings not subtracted: gross); torsion, shear areas and shear centre from the
+   centre-line model with the free-end refinement of St Venant torsion
+   (``free_end_correction=True``, so a single wall gets (b t^3/3)(1 - 0.63 t/b)).
+
+Over the height (:func:`find_systems_by_storey`) storeys are taken bottom up; each
+system is matched to a system of the storey below by the largest plan overlap (then to
+one seen further down, if it reappears), so ``core-1`` is the same core on every floor.
+Ids are numbered by first appearance, the largest plan area first: ``core-<n>`` for
+cores, ``wall-<n>`` for separate walls; an id keeps its name if the system changes kind.
+A wall taller than its storey (its body spans the mid-height of another storey) also
+counts on that storey. Warnings report systems that stop, appear, merge or split, walls
+below that are not continued above (more than :data:`STOP_MIN_LENGTH_M` or 5 % of their
+length uncovered), a core that changes kind, and cells that open or close.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+
+import networkx as nx
+import numpy as np
+import shapely
+from shapely.geometry import LineString, MultiPolygon, Polygon
+
+from .core_settings import StiffnessSettings
+from .sections import WallSegment, section_props, thin_walled_properties
+from .stick import CoreSummary, SectionProps
+from .takeoff import Storey, Wall
+
+__all__ = [
+    "SystemSection",
+    "find_systems",
+    "find_systems_by_storey",
+    "wall_segments",
+    "lateral_walls",
+    "PARTITION_MAX_THICKNESS_M",
+    "JOIN_TOL_M",
+    "STOP_MIN_LENGTH_M",
+]
+
+PlanShape = Polygon | MultiPolygon
+
+PARTITION_MAX_THICKNESS_M = 0.15
+"""Walls with no LoadBearing flag thinner than this are partitions (common practice)."""
+JOIN_TOL_M = 0.05
+"""Footprints closer than this touch; also the reach added when joining axes (common practice)."""
+STOP_MIN_LENGTH_M = 0.3
+"""A wall below is reported as not continued when more than this much of its axis (and 5 %)
+is not covered by the system above (m); smaller differences are drawing tolerances."""
+_SIN_PARALLEL = 0.1  # walls within about 5.7 degrees of each other are treated as parallel
+_NODE_SNAP_M = 0.02  # junction points closer than this are one node of the centre-line network
+
+
+@dataclass(frozen=True)
+class SystemSection:
+    """One vertical system (core or separate wall) on one storey.
+
+    Attributes:
+        system_id: "core-<n>" or "wall-<n>" (stable over the height after
+            :func:`find_systems_by_storey`; per storey numbering from :func:`find_systems`).
+        kind: "core" (two or more walls joined) or "wall" (one wall).
+        wall_ids: GlobalIds of its walls, sorted.
+        section: gross section constants (see :func:`swayscreen.pipeline.sections.section_props`).
+        closed: True when at least one cell acts closed (Bredt-Batho).
+        plan: union of the wall footprints (m).
+        note: how the closed/open decision was made (door rule, override, open section).
+    """
+
+    system_id: str
+    kind: str
+    wall_ids: tuple[str, ...]
+    section: SectionProps
+    closed: bool
+    plan: PlanShape
+    note: str
+
+
+# ---------------------------------------------------------------------------------------
+# Wall geometry helpers
+# ---------------------------------------------------------------------------------------
+
+
+def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
+    """Axis end points and thickness; from the footprint's minimum rotated rectangle when
+    the axis or thickness is missing. None when neither gives a usable wall."""
+    p0 = np.asarray(w.axis_m[0], dtype=float)
+    p1 = np.asarray(w.axis_m[1], dtype=float)
+    t = float(w.thickness_m)
+    if np.all(np.isfinite(p0)) and np.all(np.isfinite(p1)) and math.dist(p0, p1) > 1e-6 and t > 0 and math.isfinite(t):
+        return p0, p1, t
+    fp = w.footprint
+    if fp is None or fp.is_empty or not fp.area > 0:
+        return None
+    rect = shapely.minimum_rotated_rectangle(fp)
+    c = np.asarray(rect.exterior.coords)[:4]
+    e1, e2 = c[1] - c[0], c[2] - c[1]
+    if np.hypot(*e1) >= np.hypot(*e2):
+        long_, short = e1, e2
+        mid0, mid1 = (c[0] + c[3]) / 2, (c[1] + c[2]) / 2
+    else:
+        long_, short = e2, e1
+        mid0, mid1 = (c[1] + c[0]) / 2, (c[2] + c[3]) / 2
+    t2 = float(np.hypot(*short))
+    if not (np.hypot(*long_) > 1e-6 and t2 > 0):
+        return None
+    return mid0, mid1, t2
+
+
+def _footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon | MultiPolygon:
+    fp = w.footprint
+    if fp is None or fp.is_empty or not fp.area > 0:
+        p0, p1, t = line
+        return LineString([p0, p1]).buffer(t / 2, cap_style="flat", join_style="mitre")
+    if not fp.is_valid:
+        fp = shapely.make_valid(fp)
+        polys = [g for g in shapely.get_parts(fp) if isinstance(g, Polygon)]
+        fp = polys[0] if len(polys) == 1 else MultiPolygon(polys)
+    return fp
+
+
+def _as_plan(geom: object) -> PlanShape:
+    if isinstance(geom, (Polygon, MultiPolygon)):
+        return geom
+    polys = [g for g in shapely.get_parts(geom) if isinstance(g, Polygon)]
+    polys += [p for g in shapely.get_parts(geom) if isinstance(g, MultiPolygon) for p in g.geoms]
+    return polys[0] if len(polys) == 1 else MultiPolygon(polys)
+
+
+def lateral_walls(
+    walls: Sequence[Wall],
+    *,
+    load_bearing_only: bool = False,
+    partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
+) -> tuple[list[Wall], list[str]]:
+    """The walls that belong to the lateral system (rules 1 in the module docstring).
+
+    Returns:
+        (walls kept in input order without duplicate GlobalIds, warnings). Walls with no
+        usable axis or footprint are dropped with a warning; partitions and
+        non-load-bearing walls are dropped silently except for one summary line.
+    """
+    kept: list[Wall] = []
+    seen: set[str] = set()
+    warnings: list[str] = []
+    n_partition = 0
+    for w in walls:
+        if w.global_id in seen:
+            continue
+        seen.add(w.global_id)
+        if w.load_bearing is False:
+            continue
+        if load_bearing_only and w.load_bearing is not True:
+            continue
+        line = _wall_line(w)
+        if line is None:
+            warnings.append(f"wall {w.global_id} ({w.name!r}) has no usable axis, thickness or footprint: left out")
+            continue
+        if w.load_bearing is None and line[2] < partition_max_thickness_m:
+            n_partition += 1
+            continue
+        kept.append(w)
+    if n_partition:
+        warnings.append(
+            f"{n_partition} wall(s) thinner than {partition_max_thickness_m:.2f} m with no LoadBearing flag "
+            "taken as partitions (not in the lateral system)"
+        )
+    return kept, warnings
+
+
+def wall_segments(
+    walls: Sequence[Wall],
+    *,
+    slits: dict[str, tuple[float, ...]] | None = None,
+    tol_m: float = JOIN_TOL_M,
+) -> list[WallSegment]:
+    """Centre-line segments of a group of walls, joined at their junctions (rule 2).
+
+    Args:
+        walls: the walls of one core (or one wall).
+        slits: per wall GlobalId, positions along its axis from the axis start (m) where
+            it is cut through (openings without an adequate lintel).
+        tol_m: joining tolerance (m).
+
+    Returns:
+        :class:`~swayscreen.pipeline.sections.WallSegment` pieces tagged with the wall's
+        GlobalId, split at junctions; walls shorter than their junction zone give none.
+    """
+    slits = slits or {}
+    lines = []
+    for w in walls:
+        line = _wall_line(w)
+        if line is not None:
+            lines.append((w, *line))
+    n = len(lines)
+    # junctions per wall: (s along own axis, point, reach)
+    junctions: list[list[tuple[float, np.ndarray, float]]] = [[] for _ in range(n)]
+    for i in range(n):
+        _, pi0, pi1, ti = lines[i]
+        li = math.dist(pi0, pi1)
+        ui = (pi1 - pi0) / li
+        for j in range(i + 1, n):
+            _, pj0, pj1, tj = lines[j]
+            lj = math.dist(pj0, pj1)
+            uj = (pj1 - pj0) / lj
+            sin = ui[0] * uj[1] - ui[1] * uj[0]
+            if abs(sin) >= _SIN_PARALLEL:
+                w_ = pj0 - pi0
+                s = (w_[0] * uj[1] - w_[1] * uj[0]) / sin
+                r = (w_[0] * ui[1] - w_[1] * ui[0]) / sin
+                reach_i = tj / (2 * abs(sin)) + tol_m
+                reach_j = ti / (2 * abs(sin)) + tol_m
+                if -reach_i <= s <= li + reach_i and -reach_j <= r <= lj + reach_j:
+                    x = pi0 + s * ui
+                    junctions[i].append((float(s), x, reach_i))
+                    junctions[j].append((float(r), x, reach_j))
+                continue
+            # parallel: join only when collinear and meeting end to end
+            offsets = [abs(ui[0] * (q - pi0)[1] - ui[1] * (q - pi0)[0]) for q in (pj0, pj1)]
+            if max(offsets) > 0.5 * min(ti, tj) + 1e-9:
+                continue
+            best = None
+            for si, qi in ((0.0, pi0), (li, pi1)):
+                for sj, qj in ((0.0, pj0), (lj, pj1)):
+                    # facing ends: j's end lies beyond i's end (gap) or inside it (overlap)
+                    along = float(np.dot(qj - qi, ui)) * (1.0 if si > 0 else -1.0)
+                    other_side = float(np.dot((pj0 + pj1) / 2 - qi, ui)) * (1.0 if si > 0 else -1.0)
+                    if other_side <= 0:
+                        continue  # j lies on the other side of this end of i
+                    gap = along
+                    if -max(ti, tj) - tol_m <= gap <= tol_m and (best is None or abs(gap) < abs(best[0])):
+                        best = (gap, si, qi, sj, qj)
+            if best is not None:
+                gap, si, qi, sj, qj = best
+                x = (qi + qj) / 2
+                reach = abs(gap) / 2 + tol_m
+                junctions[i].append((float(np.dot(x - pi0, ui)), x, reach))
+                junctions[j].append((float(np.dot(x - pj0, uj)), x, reach))
+    segments: list[WallSegment] = []
+    for i in range(n):
+        w, p0, p1, t = lines[i]
+        length = math.dist(p0, p1)
+        js = sorted(junctions[i], key=lambda q: q[0])
+        start = [q for q in js if q[0] <= q[2]]
+        end = [q for q in js if q[0] >= length - q[2]]
+        s_start, x_start = (start[0][0], start[0][1]) if start else (0.0, p0)
+        s_end, x_end = (end[-1][0], end[-1][1]) if end else (length, p1)
+        pts = [(s_start, x_start)] + [(s, x) for s, x, _ in js if s_start < s < s_end] + [(s_end, x_end)]
+        pts = [pts[0]] + [p for k, p in enumerate(pts[1:], 1) if p[0] - pts[k - 1][0] > 1e-9]
+        pieces = [(pts[k], pts[k + 1]) for k in range(len(pts) - 1) if math.dist(pts[k][1], pts[k + 1][1]) > 1e-6]
+        at: list[list[float]] = [[] for _ in pieces]
+        for c in slits.get(w.global_id, ()):
+            # the piece holding the cut; cuts on a trimmed stub go to the end piece
+            k = next((m for m, ((sa, _), (sb, _)) in enumerate(pieces) if sa <= c < sb), None)
+            if k is None and pieces:
+                k = 0 if c < pieces[0][0][0] else len(pieces) - 1
+            if k is not None:
+                (sa, _), (sb, _) = pieces[k]
+                at[k].append(min(max(c - sa, 0.0), sb - sa))
+        for ((sa, xa), (sb, xb)), here in zip(pieces, at):
+            segments.append(
+                WallSegment((float(xa[0]), float(xa[1])), (float(xb[0]), float(xb[1])), t, tuple(here), w.global_id)
+            )
+    return segments
+
+
+# ---------------------------------------------------------------------------------------
+# One storey
+# ---------------------------------------------------------------------------------------
+
+
+def _door_cuts(w: Wall, length: float, stiffness: StiffnessSettings) -> list[tuple[float, str]]:
+    """Positions along the axis (m) of openings that cut the wall, with a description."""
+    cuts = []
+    for o in w.openings:
+        if not o.end_m > o.start_m:
+            continue
+        lintel = w.height_m - o.head_m
+        if lintel <= 1e-6 or lintel < stiffness.lintel_min_depth_m:
+            centre = min(max((o.start_m + o.end_m) / 2, 0.0), length)
+            name = o.global_id or f"at {o.start_m:.2f}-{o.end_m:.2f} m"
+            cuts.append((centre, f"opening {name} in wall {w.global_id} leaves a {max(lintel, 0.0):.2f} m lintel"))
+    return cuts
+
+
+def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, SectionProps, bool, PlanShape, str]:
+    kind = "core" if len(walls) > 1 else "wall"
+    lines = {w.global_id: _wall_line(w) for w in walls}
+    plan = _as_plan(shapely.union_all([_footprint(w, lines[w.global_id]) for w in walls]))
+    mode = stiffness.core_cells
+    base = wall_segments(walls)
+    slits: dict[str, tuple[float, ...]] = {}
+    cut_notes: list[str] = []
+    if mode == "auto":
+        for w in walls:
+            p0, p1, _ = lines[w.global_id]
+            cuts = _door_cuts(w, math.dist(p0, p1), stiffness)
+            if cuts:
+                slits[w.global_id] = tuple(c for c, _ in cuts)
+                cut_notes += [d for _, d in cuts]
+    segs = wall_segments(walls, slits=slits) if slits else base
+    kw = dict(free_end_correction=True, snap_tol_m=_NODE_SNAP_M)
+    if not segs:
+        segs = [WallSegment(tuple(lines[w.global_id][0]), tuple(lines[w.global_id][1]), lines[w.global_id][2], (), w.global_id) for w in walls]
+    section = section_props(segs, plan, torsion_cells=(mode != "open"), **kw)
+    n_geo = thin_walled_properties(base, **kw).n_cells if (slits or mode == "open") else None
+    tw_cells = thin_walled_properties(segs, torsion_cells=(mode != "open"), **kw).n_cells
+    depth = f"{stiffness.lintel_min_depth_m:.2f} m"
+    cut_text = "; ".join(f"{d} (< {depth}): cut" for d in cut_notes)
+    if kind == "wall":
+        note = "separate wall"
+        if cut_text:
+            note += f"; {cut_text}"
+    elif mode == "closed":
+        ncell = tw_cells
+        note = (f"settings core_cells = closed: {ncell} cell(s) taken closed, openings ignored"
+                if ncell else "open section (no closed cell in plan); settings core_cells = closed has nothing to close")
+    elif mode == "open":
+        note = (f"settings core_cells = open: {n_geo} cell(s) taken open (St Venant)"
+                if n_geo else "open section (no closed cell in plan)")
+    else:
+        n_all = n_geo if n_geo is not None else tw_cells
+        if n_all == 0:
+            note = "open section (no closed cell in plan)"
+            if cut_text:
+                note += f"; {cut_text}"
+        elif not cut_notes:
+            note = (f"door rule: {tw_cells} cell(s) closed; every opening keeps a lintel >= {depth}"
+                    if any(w.openings for w in walls) else f"door rule: {tw_cells} cell(s) closed; no openings")
+        else:
+            note = f"door rule: {tw_cells} of {n_all} cell(s) act closed after cuts; {cut_text}"
+    return kind, section, section.closed, plan, note
+
+
+def _find_systems(
+    walls: Sequence[Wall],
+    stiffness: StiffnessSettings,
+    *,
+    load_bearing_only: bool = False,
+    partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
+    tol_m: float = JOIN_TOL_M,
+) -> tuple[list[SystemSection], list[str]]:
+    kept, warnings = lateral_walls(
+        walls, load_bearing_only=load_bearing_only, partition_max_thickness_m=partition_max_thickness_m
+    )
+    if not kept:
+        return [], warnings
+    prints = [_footprint(w, _wall_line(w)) for w in kept]  # type: ignore[arg-type]
+    graph = nx.Graph()
+    graph.add_nodes_from(range(len(kept)))
+    tree = shapely.STRtree(prints)
+    left, right = tree.query(prints, predicate="dwithin", distance=tol_m)
+    graph.add_edges_from((int(i), int(j)) for i, j in zip(left, right) if i < j)
+    found = []
+    for comp in nx.connected_components(graph):
+        group = sorted((kept[k] for k in comp), key=lambda w: w.global_id)
+        kind, section, closed, plan, note = _system(group, stiffness)
+        found.append((kind, tuple(w.global_id for w in group), section, closed, plan, note))
+    found.sort(key=lambda f: (-f[4].area, round(f[2].centroid_m[0], 6), round(f[2].centroid_m[1], 6), f[1]))
+    counters = {"core": 0, "wall": 0}
+    systems = []
+    for kind, ids, section, closed, plan, note in found:
+        counters[kind] += 1
+        systems.append(SystemSection(f"{kind}-{counters[kind]}", kind, ids, section, closed, plan, note))
+    return systems, warnings
+
+
+def find_systems(
+    walls: Sequence[Wall],
+    stiffness: StiffnessSettings,
+    *,
+    load_bearing_only: bool = False,
+    partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
+) -> list[SystemSection]:
+    """Cores and separate walls among the walls of one storey (rules 1-6 of the module).
+
+    Args:
+        walls: the storey's walls (world plan coordinates, m).
+        stiffness: ``lintel_min_depth_m`` and ``core_cells`` are used.
+        load_bearing_only: keep only walls flagged load-bearing.
+        partition_max_thickness_m: unflagged walls thinner than this are partitions (m).
+
+    Returns:
+        Systems ordered by plan area (largest first), numbered ``core-1``, ``core-2``, ...
+        and ``wall-1``, ... within this storey. Use :func:`find_systems_by_storey` for ids
+        that are stable over the height and for the warnings.
+    """
+    return _find_systems(
+        walls, stiffness, load_bearing_only=load_bearing_only, partition_max_thickness_m=partition_max_thickness_m
+    )[0]
+
+
+# ---------------------------------------------------------------------------------------
+# Over the height
+# ---------------------------------------------------------------------------------------
+
+
+def _storey_walls(storey: Storey, others: Sequence[tuple[Storey, Wall]], include_spanning: bool) -> list[Wall]:
+    walls = list(storey.walls)
+    if include_spanning and storey.height_m > 0:
+        mid = storey.elevation_m + storey.height_m / 2
+        ids = {w.global_id for w in walls}
+        for owner, w in others:
+            if owner is storey or w.global_id in ids:
+                continue
+            if w.base_elevation_m < mid < w.top_elevation_m:
+                walls.append(w)
+                ids.add(w.global_id)
+    return walls
+
+
+def _uncovered(w: Wall, plan: PlanShape, tol_m: float) -> tuple[float, float]:
+    line = _wall_line(w)
+    if line is None:
+        return 0.0, 0.0
+    p0, p1, t = line
+    axis = LineString([p0, p1])
+    rest = axis.difference(plan.buffer(max(tol_m, t / 2)))
+    return float(rest.length), float(axis.length)
+
+
+def find_systems_by_storey(
+    storeys: Sequence[Storey],
+    stiffness: StiffnessSettings,
+    *,
+    load_bearing_only: bool = False,
+    include_spanning_walls: bool = True,
+) -> tuple[dict[str, list[SystemSection]], list[CoreSummary], list[str]]:
+    """Systems of every storey with ids stable over the height (see the module docstring).
+
+    Args:
+        storeys: any order; processed by elevation, lowest first.
+        stiffness: ``lintel_min_depth_m`` and ``core_cells`` are used.
+        load_bearing_only: keep only walls flagged load-bearing.
+        include_spanning_walls: also count on a storey the walls of other storeys whose
+            body spans its mid-height.
+
+    Returns:
+        (storey GlobalId -> its systems, one :class:`~swayscreen.pipeline.stick.CoreSummary`
+        per distinct system in order of first appearance (section, closed and note at the
+        lowest above-grade storey where it exists, else the lowest), warnings).
+    """
+    order = sorted(storeys, key=lambda s: s.elevation_m)
+    owned = [(s, w) for s in order for w in s.walls]
+    by_storey: dict[str, list[SystemSection]] = {}
+    warnings: list[str] = []
+    counters = {"core": 0, "wall": 0}
+    history: dict[str, tuple[int, SystemSection]] = {}  # id -> (storey index, last system)
+    ref: dict[str, tuple[bool, SystemSection]] = {}  # id -> (above grade, system for the summary)
+    walls_of: dict[str, list[str]] = {}
+    first_seen: list[str] = []
+    wall_index: dict[int, dict[str, Wall]] = {}
+    per_storey_raw: list[tuple[list[SystemSection], list[str], list[Wall]]] = []
+    for st in order:
+        walls = _storey_walls(st, owned, include_spanning_walls)
+        systems, warn = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
+        per_storey_raw.append((systems, warn, walls))
+    top_with_systems = max((k for k, r in enumerate(per_storey_raw) if r[0]), default=-1)
+
+    prev: list[SystemSection] = []
+    for k, st in enumerate(order):
+        systems, warn, walls = per_storey_raw[k]
+        wall_index[k] = {w.global_id: w for w in walls}
+        where = f"storey {st.name!r}"
+        warnings += [f"{where}: {m}" for m in warn]
+        prev_ids = {s.system_id for s in prev}
+        older = [(sid, sys_) for sid, (kk, sys_) in history.items() if sid not in prev_ids]
+        # candidate pairs: (priority, overlap, new index, old id)
+        pairs = []
+        overlaps: dict[int, list[str]] = {}
+        for n, new in enumerate(systems):
+            for prio, pool in ((1, [(s.system_id, s) for s in prev]), (0, older)):
+                for sid, old in pool:
+                    if not new.plan.bounds or not _bbox_touch(new.plan, old.plan):
+                        continue
+                    ov = new.plan.intersection(old.plan).area
+                    if ov > 1e-9:
+                        pairs.append((prio, ov, n, sid))
+                        if prio == 1:
+                            overlaps.setdefault(n, []).append(sid)
+        pairs.sort(key=lambda p: (-p[0], -p[1], p[2], p[3]))
+        assigned: dict[int, str] = {}
+        used: set[str] = set()
+        for prio, ov, n, sid in pairs:
+            if n in assigned or sid in used:
+                continue
+            assigned[n] = sid
+            used.add(sid)
+        renamed: list[SystemSection] = []
+        for n, new in enumerate(systems):
+            if n in assigned:
+                sid = assigned[n]
+                if sid not in prev_ids:
+                    last_k = history[sid][0]
+                    warnings.append(f"{where}: {sid} reappears (last seen on storey {order[last_k].name!r})")
+            else:
+                counters[new.kind] += 1
+                sid = f"{new.kind}-{counters[new.kind]}"
+                if k > 0:
+                    warnings.append(f"{where}: new {new.kind} {sid} appears (walls {', '.join(new.wall_ids)}) with nothing below it")
+            renamed.append(replace(new, system_id=sid))
+        # per matched system: merges, kind and closure changes, walls not continued
+        prev_by_id = {s.system_id: s for s in prev}
+        for n, new in enumerate(renamed):
+            sid = new.system_id
+            below = overlaps.get(n, [])
+            if len(below) > 1:
+                warnings.append(f"{where}: {' and '.join(sorted(below))} from below merge into {sid}")
+            old = prev_by_id.get(sid)
+            if old is None:
+                continue
+            if old.kind != new.kind:
+                warnings.append(f"{where}: {sid} changes from {old.kind} to {new.kind}")
+            if old.closed != new.closed:
+                state = "closed" if new.closed else "open"
+                warnings.append(f"{where}: {sid} acts {state} here ({'open' if new.closed else 'closed'} below): {new.note}")
+            stops = []
+            for gid in old.wall_ids:
+                w = wall_index[k - 1].get(gid)
+                if w is None:
+                    continue
+                rest, total = _uncovered(w, new.plan, JOIN_TOL_M)
+                if rest > max(STOP_MIN_LENGTH_M, 0.05 * total):
+                    stops.append(f"{gid} ({rest:.2f} m of {total:.2f} m)")
+            if stops:
+                warnings.append(f"{where}: {sid} loses walls from the storey below: {', '.join(stops)} not continued")
+        # systems below that found no partner here
+        here_ids = {s.system_id for s in renamed}
+        if k <= top_with_systems:
+            for old in prev:
+                if old.system_id in here_ids:
+                    continue
+                into = sorted({renamed[n].system_id for n, ids in overlaps.items() if old.system_id in ids})
+                if into:
+                    continue  # reported as a merge
+                warnings.append(f"{where}: {old.system_id} stops (walls {', '.join(old.wall_ids)} below are not continued)")
+        # a system below split into several here
+        for old in prev:
+            parts = sorted({renamed[n].system_id for n, ids in overlaps.items() if old.system_id in ids})
+            if len(parts) > 1:
+                warnings.append(f"{where}: {old.system_id} from below splits into {', '.join(parts)}")
+        for s in renamed:
+            history[s.system_id] = (k, s)
+            if s.system_id not in walls_of:
+                walls_of[s.system_id] = []
+                first_seen.append(s.system_id)
+            walls_of[s.system_id] += [g for g in s.wall_ids if g not in walls_of[s.system_id]]
+            if s.system_id not in ref or (st.above_grade and not ref[s.system_id][0]):
+                ref[s.system_id] = (st.above_grade, s)
+        by_storey[st.global_id] = renamed
+        prev = renamed
+    summaries = [
+        CoreSummary(
+            id=sid,
+            wall_ids=tuple(walls_of[sid]),
+            closed=ref[sid][1].closed,
+            section=ref[sid][1].section,
+            note=ref[sid][1].note,
+        )
+        for sid in first_seen
+    ]
+    return by_storey, summaries, warnings
+
+
+def _bbox_touch(a: PlanShape, b: PlanShape) -> bool:
+    ax0, ay0, ax1, ay1 = a.bounds
+    bx0, by0, bx1, by1 = b.bounds
+    return ax0 <= bx1 and bx0 <= ax1 and ay0 <= by1 and by0 <= ay1
