@@ -17,15 +17,18 @@ storey list from the elements' actual elevations:
    storey matches becomes a new floor, split off the storey whose slabs it holds (named
    "<storey> (+z m)", GlobalId "<storey GlobalId>/<n>"), with a warning - unless it is
    minor (under 10 % of the largest group's area), which only gets a warning.
-4. **Every element is assigned by its geometry**: slabs by their top (sloped slabs by
-   their lowest point), walls and columns by their base. The element goes to the nearest
-   level within ``floor_tolerance_m``; failing that, to the highest level at or below it
-   (the lowest level for anything below all levels). Where this differs from the
-   exported containment, the element moves and a warning reports it (aggregated per
-   storey pair). ``storey_id`` on the element keeps the exported containment.
+4. **Every element is assigned by its geometry**. Slabs by their top (sloped slabs by
+   their lowest point): the nearest level within ``floor_tolerance_m``, failing that the
+   highest level at or below it. Walls and columns go to the storey whose range
+   [elevation, next elevation) holds the largest part of their height (the lowest
+   storey's range extends down, the top storey's up; a tie goes to the lower storey), so
+   a wall standing on the slab soffit or a short bulkhead under the next floor stays in
+   its storey. Where this differs from the exported containment, the element moves and
+   a warning reports it (aggregated per storey pair). ``storey_id`` on the element keeps
+   the exported containment.
 5. **Heights**: each storey reaches the next higher elevation. The top storey reaches the
-   highest top of its walls and columns; without them it repeats the height of the
-   storey below.
+   highest top of its elements (Storey.height_m contract); with nothing rising above its
+   elevation it repeats the height of the storey below.
 6. **Ground rule** (``LevelSettings.ground_rule``): ``nearest-zero`` (default) makes the
    storey whose elevation is nearest 0 the ground storey (a tie goes to the higher
    one); ``lowest`` the lowest storey; ``named`` the storey named
@@ -35,6 +38,7 @@ storey list from the elements' actual elevations:
 from __future__ import annotations
 
 import bisect
+import math
 from collections import defaultdict
 from dataclasses import dataclass, field
 
@@ -248,8 +252,22 @@ def build_storeys(sources: list[SourceStorey], slabs: list[Placed], walls: list[
     moved: dict[tuple[str, str, str], list[Placed]] = defaultdict(list)
     orphans: dict[str, int] = defaultdict(int)
 
-    def place(p: Placed, kind: str, key: float) -> None:
-        L = lv[pick(key)]
+    def span(p: Placed) -> int:
+        if p.zmax - p.zmin <= 1e-9:
+            return max(bisect.bisect_right(zs, p.zmin) - 1, 0)
+        lo = max(bisect.bisect_right(zs, p.zmin) - 1, 0)
+        hi = max(bisect.bisect_left(zs, p.zmax) - 1, lo)
+        best, best_len = lo, -1.0
+        for k in range(lo, hi + 1):
+            a = -math.inf if k == 0 else zs[k]
+            b = math.inf if k == len(zs) - 1 else zs[k + 1]
+            part = min(p.zmax, b) - max(p.zmin, a)
+            if part > best_len + 1e-9:
+                best, best_len = k, part
+        return best
+
+    def place(p: Placed, kind: str, key: float | None) -> None:
+        L = lv[pick(key) if key is not None else span(p)]
         getattr(L, kind).append(p.element)
         L.extents.append(p)
         sid = p.element.storey_id
@@ -261,18 +279,20 @@ def build_storeys(sources: list[SourceStorey], slabs: list[Placed], walls: list[
     for p in kept:
         place(p, "slabs", p.zmin if p.element.sloped else p.element.top_elevation_m)
     for p in walls:
-        place(p, "walls", p.zmin)
+        place(p, "walls", None)
     for p in columns:
-        place(p, "columns", p.zmin)
+        place(p, "columns", None)
     by_level = {L.global_id: L for L in lv}
     for (kind, sid, lid), items in moved.items():
         dest = by_level[lid]
         z_lo = min(p.zmin if kind != "slabs" else p.element.top_elevation_m for p in items)
         z_hi = max(p.zmin if kind != "slabs" else p.element.top_elevation_m for p in items)
+        z_top = max(p.zmax for p in items)
         ref = "tops" if kind == "slabs" else "bases"
-        span = f"{z_lo:.2f} m" if abs(z_hi - z_lo) < 0.005 else f"{z_lo:.2f}..{z_hi:.2f} m"
+        zr = f"{z_lo:.2f} m" if abs(z_hi - z_lo) < 0.005 else f"{z_lo:.2f}..{z_hi:.2f} m"
+        extra = "" if kind == "slabs" else f", tops up to {z_top:.2f} m"
         warnings.append(f"{where}{_plural(len(items), kind[:-1])} contained in storey '{by_id[sid].name}' "
-                        f"lie in storey '{dest.name}' by geometry ({ref} at {span}): reassigned "
+                        f"lie in storey '{dest.name}' by geometry ({ref} at {zr}{extra}): reassigned "
                         f"({_ids([p.element.global_id for p in items])})")
     for kind, n in orphans.items():
         warnings.append(f"{where}{_plural(n, kind[:-1])} not contained in any storey: placed by elevation")
@@ -284,17 +304,15 @@ def build_storeys(sources: list[SourceStorey], slabs: list[Placed], walls: list[
         if nxt is not None:
             heights[i] = nxt - L.elevation_m
     top_group = [i for i, L in enumerate(lv) if L.elevation_m >= zs[-1] - _SAME_LEVEL_M]
-    vert_tops = [p.zmax for i in top_group for p in lv[i].extents if not isinstance(p.element, Slab)]
+    tops = [p.zmax for i in top_group for p in lv[i].extents]
     below = [h for h in heights if h > 0]
-    if vert_tops and max(vert_tops) - zs[-1] > _SAME_LEVEL_M:
-        top_h = max(vert_tops) - zs[-1]
+    if tops and max(tops) - zs[-1] > _SAME_LEVEL_M:
+        top_h = max(tops) - zs[-1]
     elif below:
-        top_h = heights[max(i for i, h in enumerate(heights) if h > 0)]
+        top_h = below[-1]
     else:
-        all_tops = [p.zmax for L in lv for p in L.extents]
-        top_h = max(0.0, max(all_tops, default=zs[-1]) - zs[-1])
-        if top_h <= 0:
-            warnings.append(f"{where}single storey with no element rising above it: height 0")
+        top_h = 0.0
+        warnings.append(f"{where}single storey level with no element rising above it: height 0")
     for i in top_group:
         heights[i] = top_h
 

@@ -18,8 +18,12 @@ derived and composite profiles.
 Circles use a 64-gon whose circumradius is scaled so the polygon has exactly the circle's
 area (R' = R sqrt(2 pi / (N sin(2 pi / N)))), so areas and centroids are exact.
 
-Only bodies with no parametric reading (B-reps, face sets, surface models, booleans other
-than half-space clipping) go through the geometry engine (:func:`mesh_body`).
+Bodies with no parametric reading but explicit planar faces (IfcFacetedBrep, surface
+models, triangulated and polygonal face sets) are read face by face (:meth:`Geometry.items_faces`,
+:func:`faces_body`): the faces are in the file, so no tessellation is needed, and this is two
+orders faster than the engine (a 462-face B-rep: about 0.45 s in ``create_shape`` against a
+few milliseconds). Only what remains (curved B-reps, CSG, general booleans, revolved and
+swept-disk solids) goes through the geometry engine (:func:`mesh_body`).
 """
 from __future__ import annotations
 
@@ -37,7 +41,8 @@ from .errors import InputError
 __all__ = [
     "NotParametric", "Prism", "Geometry", "MeshBody", "mesh_body", "polygonal",
     "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical",
-    "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH",
+    "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH", "faces_body", "triangles_body",
+    "Face",
 ]
 
 ARC_STEP_RAD = math.radians(5.0)
@@ -584,6 +589,108 @@ class Geometry:
         return Prism(profile, m, direction, depth)
 
 
+    # -- explicit faces (B-reps, face sets, surface models) ----------------------------
+    def items_faces(self, items, base: np.ndarray) -> tuple[list[Face], bool]:
+        """World faces of explicit faceted items, read directly (no engine).
+
+        Handles IfcFacetedBrep (with voids), IfcShellBasedSurfaceModel,
+        IfcFaceBasedSurfaceModel, IfcTriangulatedFaceSet, IfcPolygonalFaceSet, through
+        IfcMappedItem and as first operand of half-space clippings.
+
+        Raises:
+            NotParametric: for anything else (curved B-reps, CSG, general booleans...).
+        """
+        out: list[Face] = []
+        clipped = False
+        for it in items:
+            c = self._faces(it, base, out, 0)
+            clipped = clipped or c
+        return out, clipped
+
+    def _faces(self, it, base: np.ndarray, out: list[Face], depth: int) -> bool:
+        if depth > 16:
+            raise NotParametric("representation nesting too deep")
+        t = it.is_a()
+        s = self.scale
+        rot, off = base[:3, :3] * s, base[:3, 3]
+
+        def world(pts) -> np.ndarray:
+            return np.asarray(pts, dtype=float) @ rot.T + off
+
+        if t in ("IfcFacetedBrep", "IfcFacetedBrepWithVoids"):
+            self._face_set(it.Outer.CfsFaces, world, out)
+            return False
+        if t == "IfcShellBasedSurfaceModel":
+            for shell in it.SbsmBoundary or ():
+                self._face_set(shell.CfsFaces, world, out)
+            return False
+        if t == "IfcFaceBasedSurfaceModel":
+            for fs in it.FbsmFaces or ():
+                self._face_set(fs.CfsFaces, world, out)
+            return False
+        if t in ("IfcTriangulatedFaceSet", "IfcTriangulatedIrregularNetwork", "IfcPolygonalFaceSet"):
+            coords = world([[float(v) for v in (list(row) + [0.0])[:3]] for row in it.Coordinates.CoordList])
+            pn = getattr(it, "PnIndex", None)
+            remap = (np.array([int(i) - 1 for i in pn]) if pn else None)
+
+            def idx(seq) -> np.ndarray:
+                a = np.array([int(i) - 1 for i in seq])
+                return remap[a] if remap is not None else a
+
+            if t == "IfcPolygonalFaceSet":
+                for f in it.Faces:
+                    inner = [coords[idx(r)] for r in (getattr(f, "InnerCoordIndices", None) or ())]
+                    out.append((coords[idx(f.CoordIndex)], inner))
+            else:
+                tri = np.array([[int(i) - 1 for i in row] for row in it.CoordIndex])
+                if remap is not None:
+                    tri = remap[tri]
+                out.extend((coords[row], []) for row in tri)
+            return False
+        if t in ("IfcBooleanClippingResult", "IfcBooleanResult"):
+            second = it.SecondOperand
+            if str(it.Operator) == "DIFFERENCE" and second is not None and second.is_a("IfcHalfSpaceSolid"):
+                self._faces(it.FirstOperand, base, out, depth + 1)
+                return True
+            raise NotParametric(f"{t} {it.Operator}")
+        if t == "IfcMappedItem":
+            src = it.MappingSource
+            m = base @ self.transform_operator(it.MappingTarget) @ self.axis2(src.MappingOrigin)
+            clipped = False
+            for sub in src.MappedRepresentation.Items:
+                clipped = self._faces(sub, m, out, depth + 1) or clipped
+            return clipped
+        raise NotParametric(t)
+
+    @staticmethod
+    def _face_set(faces, world, out: list[Face]) -> None:
+        # Positional access (face[0] = Bounds, bound[0] = Bound, bound[1] = Orientation,
+        # loop[0] = Polygon, point[0] = Coordinates) is about 3x faster than by name; the
+        # positions are the same in IFC2X3, IFC4 and IFC4X3.
+        for face in faces or ():
+            bounds = face[0]
+            outer = None
+            inner = []
+            for bound in bounds:
+                loop = bound[0]
+                if not loop.is_a("IfcPolyLoop"):
+                    raise NotParametric(f"face bound {loop.is_a()}")
+                pts = [p[0] for p in loop[0]]
+                if len(pts) < 3:
+                    continue
+                ring = world([(c + (0.0,))[:3] if len(c) < 3 else c for c in pts])
+                if bound[1] is False:
+                    ring = ring[::-1]
+                if outer is None and (len(bounds) == 1 or bound.is_a("IfcFaceOuterBound")):
+                    outer = ring
+                else:
+                    inner.append(ring)
+            if outer is None and inner:
+                outer, inner = inner[0], inner[1:]
+            if outer is not None:
+                out.append((outer, inner))
+
+
 # ---------------------------------------------------------------------------- prism maths
 
 def prism_is_vertical(p: Prism) -> bool:
@@ -651,18 +758,19 @@ def prism_footprint(p: Prism) -> Polygon | MultiPolygon:
     return polygonal(shapely.union_all(parts)) if parts else Polygon()
 
 
-# ---------------------------------------------------------------------------- mesh fallback
+# ---------------------------------------------------------------------------- explicit faces and mesh fallback
 
 @dataclass(frozen=True)
 class MeshBody:
-    """What the reader takes from a tessellated body (world metres).
+    """What the reader takes from a faceted body (world metres).
 
     Attributes:
-        footprint: plan projection (union of the projected non-vertical triangles; the
-            convex hull above ``MAX_UNION_TRIANGLES`` triangles, for speed).
+        footprint: plan projection: the union of the projected non-vertical faces (the
+            convex hull above ``MAX_UNION_FACES`` faces, for speed).
         zmin, zmax: vertical extent (m).
-        volume_m3: enclosed volume (divergence theorem; meaningful for closed shells only).
-        sloped: True when most of the upward-facing area is inclined more than 5 degrees.
+        volume_m3: enclosed volume (divergence theorem; meaningful for closed, consistently
+            oriented shells only).
+        sloped: True when most of the non-vertical face area is inclined more than 5 degrees.
         vertices: (n, 3) array.
     """
 
@@ -674,7 +782,95 @@ class MeshBody:
     vertices: np.ndarray
 
 
-MAX_UNION_TRIANGLES = 20000
+MAX_UNION_FACES = 20000
+_COS_5DEG = math.cos(math.radians(5.0))
+
+Face = tuple[np.ndarray, list[np.ndarray]]
+"""A planar face: outer ring (k, 3) and inner rings, world metres."""
+
+
+def faces_body(faces: list[Face]) -> MeshBody | None:
+    """Plan footprint, extent, volume and slope of a body given as planar faces (vectorised)."""
+    if not faces:
+        return None
+    rings = []
+    owner = []
+    for i, (outer, inner) in enumerate(faces):
+        rings.append(outer)
+        owner.append(i)
+        for r in inner:
+            rings.append(r)
+            owner.append(i)
+    sizes = np.array([len(r) for r in rings])
+    pts = np.vstack(rings)
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+    nxt = np.arange(len(pts)) + 1
+    nxt[starts + sizes - 1] = starts
+    a, b = pts, pts[nxt]
+    # Newell's method: twice the area vector of each ring; inner rings run the other way
+    # in a well-formed face, so summing the rings of a face subtracts the holes.
+    terms = np.column_stack([(a[:, 1] - b[:, 1]) * (a[:, 2] + b[:, 2]),
+                             (a[:, 2] - b[:, 2]) * (a[:, 0] + b[:, 0]),
+                             (a[:, 0] - b[:, 0]) * (a[:, 1] + b[:, 1])])
+    ring_n = np.add.reduceat(terms, starts, axis=0)
+    owner_a = np.array(owner)
+    n = np.zeros((len(faces), 3))
+    np.add.at(n, owner_a, ring_n)
+    first = np.array([f[0][0] for f in faces])
+    vol = float(abs(np.einsum("ij,ij->i", first, n).sum()) / 6.0)
+    a2 = np.linalg.norm(n, axis=1)
+    keep = (a2 > 1e-14) & (np.abs(n[:, 2]) > 1e-9 * a2)
+    up = n[:, 2] > 0
+    up_area = float(a2[up & keep].sum())
+    inclined = float(a2[up & keep & (n[:, 2] < _COS_5DEG * a2)].sum())
+    sloped = up_area > 0 and inclined > 0.5 * up_area
+    idx = np.flatnonzero(keep)
+    if len(idx) == 0:
+        fp: Polygon | MultiPolygon = Polygon()
+    elif len(idx) > MAX_UNION_FACES:
+        fp = polygonal(shapely.MultiPoint(pts[:, :2]).convex_hull)
+    else:
+        simple = [i for i in idx if not faces[i][1]]
+        holed = [i for i in idx if faces[i][1]]
+        geoms = []
+        if simple:
+            coords = np.vstack([faces[i][0][:, :2] for i in simple])
+            ids = np.repeat(np.arange(len(simple)), [len(faces[i][0]) for i in simple])
+            geoms.extend(shapely.polygons(shapely.linearrings(coords, indices=ids)))
+        for i in holed:
+            outer, inner = faces[i]
+            geoms.append(Polygon(outer[:, :2], [r[:, :2] for r in inner if len(r) >= 3]))
+        arr = np.array(geoms, dtype=object)
+        bad = ~shapely.is_valid(arr)
+        if bad.any():
+            arr[bad] = [polygonal(g) for g in arr[bad]]
+        fp = polygonal(shapely.union_all(arr))
+    return MeshBody(fp, float(pts[:, 2].min()), float(pts[:, 2].max()), vol, sloped, pts)
+
+
+def triangles_body(verts: np.ndarray, faces: np.ndarray) -> MeshBody | None:
+    """As :func:`faces_body` for a triangle mesh (vectorised)."""
+    if len(verts) == 0 or len(faces) == 0:
+        return None
+    tri = verts[faces]
+    n = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+    area2 = np.linalg.norm(n, axis=1)
+    volume = float(abs(np.einsum("ij,ij->i", tri[:, 0], np.cross(tri[:, 1], tri[:, 2])).sum()) / 6.0)
+    keep = (np.abs(n[:, 2]) > 1e-9 * area2) & (area2 > 1e-14)
+    planar = tri[keep][:, :, :2]
+    if len(planar) == 0:
+        footprint: Polygon | MultiPolygon = Polygon()
+    elif len(planar) > MAX_UNION_FACES:
+        footprint = polygonal(shapely.MultiPoint(planar.reshape(-1, 2)).convex_hull)
+    else:
+        closed = np.concatenate([planar, planar[:, :1]], axis=1)
+        footprint = polygonal(shapely.union_all(shapely.polygons(closed)))
+    up = n[:, 2] > 0
+    cosang = n[:, 2] / np.maximum(area2, 1e-300)
+    up_area = float(area2[up].sum())
+    inclined = float(area2[up & (cosang < _COS_5DEG)].sum())
+    sloped = up_area > 0 and inclined > 0.5 * up_area
+    return MeshBody(footprint, float(verts[:, 2].min()), float(verts[:, 2].max()), volume, sloped, verts)
 
 
 _SETTINGS = None
@@ -693,10 +889,8 @@ def _geom_settings():
 
 
 def mesh_body(element) -> MeshBody | None:
-    """Tessellate one element with the geometry engine (openings not subtracted).
-
-    Returns None when the engine produces nothing.
-    """
+    """Tessellate one element with the geometry engine (world coordinates, metres,
+    openings not subtracted). None when the engine produces nothing."""
     import ifcopenshell.geom
 
     try:
@@ -705,24 +899,4 @@ def mesh_body(element) -> MeshBody | None:
         return None
     verts = np.asarray(shape.geometry.verts, dtype=float).reshape(-1, 3)
     faces = np.asarray(shape.geometry.faces, dtype=np.int64).reshape(-1, 3)
-    if len(verts) == 0 or len(faces) == 0:
-        return None
-    tri = verts[faces]
-    n = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
-    area2 = np.linalg.norm(n, axis=1)
-    volume = float(abs(np.einsum("ij,ij->i", tri[:, 0], np.cross(tri[:, 1], tri[:, 2])).sum()) / 6.0)
-    keep = (np.abs(n[:, 2]) > 1e-9 * area2) & (area2 > 1e-14)
-    planar = tri[keep][:, :, :2]
-    if len(planar) == 0:
-        footprint: Polygon | MultiPolygon = Polygon()
-    elif len(planar) > MAX_UNION_TRIANGLES:
-        footprint = polygonal(shapely.MultiPoint(planar.reshape(-1, 2)).convex_hull)
-    else:
-        closed = np.concatenate([planar, planar[:, :1]], axis=1)
-        footprint = polygonal(shapely.union_all(shapely.polygons(closed)))
-    up = n[:, 2] > 0
-    cosang = np.where(area2 > 0, n[:, 2] / np.maximum(area2, 1e-300), 0.0)
-    up_area = float(area2[up].sum())
-    inclined = float(area2[up & (cosang < math.cos(math.radians(5.0)))].sum())
-    sloped = up_area > 0 and inclined > 0.5 * up_area
-    return MeshBody(footprint, float(verts[:, 2].min()), float(verts[:, 2].max()), volume, sloped, verts)
+    return triangles_body(verts, faces)

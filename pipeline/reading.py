@@ -1,0 +1,695 @@
+"""Read an IFC file into a :class:`~swayscreen.pipeline.takeoff.Takeoff`, without tessellation.
+
+Public entry point: :func:`read_model`. Only this stage (and the writer) touches ifcopenshell.
+
+What is read, and how (all lengths converted to metres, world coordinates):
+
+* **Schema**: IFC2X3, IFC4 and IFC4X3 (any IFC4X3 addendum). Anything else, or a file the
+  library refuses, is an :class:`InputError` naming the file.
+* **Units** (:mod:`.ifc_units`): the project length unit (SI with prefix, or a conversion
+  based unit such as FOOT via its conversion factor); plane-angle unit for trimmed arcs.
+* **Placements** (:mod:`.ifc_geometry`): IfcLocalPlacement chains composed once each and
+  memoised, with the context's WorldCoordinateSystem applied; cycles and chains deeper
+  than 256 are input errors. ``true_north_deg`` from the model context's TrueNorth.
+* **Bodies**: IfcExtrudedAreaSolid (direct, mapped, first operand of half-space clippings,
+  unions) read in closed form. Half-space clippings only trim, so the unclipped extrusion
+  is used and a warning says how many elements were affected. Anything else (B-reps,
+  face sets, surface models, other booleans) goes through the geometry engine with
+  world coordinates and without opening subtraction, projected to plan (see
+  :class:`.ifc_geometry.MeshBody`); such elements are listed in ``Takeoff.mesh_elements``.
+* **Slabs** (IfcSlab and subtypes): plan polygon with own voids and vertical extruded
+  IfcOpeningElement voids subtracted (recesses ignored); thickness = volume / plan area
+  of the body before openings (= extrusion depth for a vertical extrusion; for sloped
+  slabs an equivalent thickness that preserves the mass over the plan footprint); top
+  elevation; PredefinedType from the occurrence, else its type; ``sloped`` when the
+  extrusion is not vertical or the profile plane not horizontal.
+* **Walls** (IfcWall and every subtype, IFC2X3 and IFC4): axis from the 'Axis'
+  representation when present (shifted onto the body's centre line), else the long
+  axis of the body footprint's minimum rotated rectangle; thickness = the footprint's
+  extent across the axis, replaced by the material layer set total when an
+  IfcMaterialLayerSetUsage is present and agrees within 5 % (disagreements are
+  reported and the geometry kept); height and base from the body; openings from each
+  voiding IfcOpeningElement's body projected onto the axis; LoadBearing from
+  Pset_WallCommon (occurrence, else type).
+* **Columns** (IfcColumn and subtypes): plan section from the profile, height and base.
+* **Materials** (:mod:`.ifc_materials`): occurrence, else type; missing materials are
+  counted per element kind in one warning each.
+* **Storeys**: elevation = ``Elevation`` x unit; where the storey's placement z
+  disagrees by more than 1 mm the placement (world) z is used, with a warning. Storeys
+  are rebuilt from element geometry by :mod:`.ifc_floors`, which also documents the
+  **ground rule**: with ``ground_rule = "nearest-zero"`` (default) the storey whose
+  elevation is nearest 0 is the ground storey and the storeys below it are basements
+  (``above_grade`` False); ``"lowest"`` makes the lowest storey ground; ``"named"`` the
+  storey named ``ground_storey``. Heights run to the next storey; the top storey's
+  height comes from its walls and columns, else from the storey below.
+* **Usage hint**: from the storey's Name/LongName, else a vote over the Name, LongName
+  and ObjectType of the IfcSpaces in it (office, residential, hotel, plant, retail).
+* **Several IfcBuilding**: one BuildingTakeoff each (in file order).
+
+Warnings are one line each, aggregated (counts with up to five GlobalIds), collected in
+``Takeoff.warnings`` (everything) and ``BuildingTakeoff.warnings`` (that building's floor
+corrections).
+"""
+from __future__ import annotations
+
+import math
+import re
+from collections import Counter, defaultdict
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import shapely
+from shapely.geometry import MultiPolygon, Polygon
+
+from .core_settings import LevelSettings
+from .errors import InputError
+from .ifc_floors import Placed, SourceStorey, build_storeys
+from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, faces_body, mesh_body, polygonal, prism_footprint,
+                           prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
+from .ifc_materials import MaterialReader
+from .ifc_units import read_context, read_units
+from .takeoff import BuildingTakeoff, Column, PlanShape, Slab, Takeoff, Wall, WallOpening
+
+__all__ = ["read_model", "SUPPORTED_SCHEMAS", "open_model"]
+
+SUPPORTED_SCHEMAS = ("IFC2X3", "IFC4", "IFC4X3")
+_BODY_TYPES = {"SweptSolid", "Brep", "Clipping", "MappedRepresentation", "SurfaceModel", "Tessellation",
+               "CSG", "AdvancedSweptSolid", "AdvancedBrep", "SolidModel"}
+_USAGE_RULES = [
+    ("office", re.compile(r"office|b\u00fcro|buero|bureau|workplace")),
+    ("residential", re.compile(r"residential|residence|apartment|\bflats?\b|dwelling|wohn|living|bedroom")),
+    ("hotel", re.compile(r"hotel|guest ?room")),
+    ("plant", re.compile(r"\bplant\b|mechanical|machine room|technik|\bmep\b|\bhvac\b")),
+    ("retail", re.compile(r"retail|\bshops?\b|laden")),
+]
+_LAYER_TOL_REL = 0.05
+_LAYER_TOL_ABS = 0.005
+
+
+# ---------------------------------------------------------------------------- opening the file
+
+def _check_file(p: Path) -> None:
+    if not p.exists():
+        raise InputError(f"{p}: file not found")
+    if p.is_dir():
+        raise InputError(f"{p}: is a directory, not an IFC file")
+    try:
+        size = p.stat().st_size
+        with p.open("rb") as fh:
+            head = fh.read(4096)
+            fh.seek(max(0, size - 4096))
+            tail = fh.read()
+    except OSError as exc:
+        raise InputError(f"{p}: cannot be read ({exc.strerror or exc})") from None
+    if size == 0:
+        raise InputError(f"{p}: empty file")
+    h = head.lstrip(b"\xef\xbb\xbf \t\r\n")
+    if not h.startswith(b"ISO-10303-21"):
+        if h.startswith(b"PK"):
+            raise InputError(f"{p}: a zip archive (ifcZIP?); unzip it and pass the .ifc file")
+        if h.startswith(b"<"):
+            raise InputError(f"{p}: XML, not an IFC STEP file (ifcXML is not supported)")
+        raise InputError(f"{p}: not an IFC file (no ISO-10303-21 header)")
+    if b"END-ISO-10303-21" not in tail.rstrip(b"\x00 \t\r\n\x1a")[-256:]:
+        raise InputError(f"{p}: truncated or corrupt IFC file (no END-ISO-10303-21 trailer)")
+
+
+def open_model(path: str | Path):
+    """Open an IFC file with ifcopenshell after the cheap checks; InputError on failure."""
+    import ifcopenshell
+
+    p = Path(path)
+    _check_file(p)
+    try:
+        model = ifcopenshell.open(str(p))
+    except Exception as exc:  # noqa: BLE001 - ifcopenshell.Error, RuntimeError, SchemaError...
+        msg = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise InputError(f"{p}: not readable as IFC ({msg})") from None
+    schema = str(getattr(model, "schema_identifier", None) or model.schema).upper()
+    if not any(schema == s or schema.startswith(s + "_") for s in SUPPORTED_SCHEMAS):
+        raise InputError(f"{p}: schema {schema} is not supported (IFC2X3, IFC4, IFC4X3 are)")
+    return model
+
+
+def _schema_name(model) -> str:
+    s = str(model.schema).upper()
+    return "IFC4X3" if s.startswith("IFC4X3") else s
+
+
+# ---------------------------------------------------------------------------- solids
+
+@dataclass
+class _Solid:
+    """The reader's summary of one element body (world metres)."""
+
+    footprint: PlanShape
+    zmin: float
+    zmax: float
+    volume_m3: float
+    vertical: bool
+    clipped: bool = False
+    prisms: list[Prism] = field(default_factory=list)
+    mesh: MeshBody | None = None
+
+    def vertices(self) -> np.ndarray:
+        if self.mesh is not None:
+            return self.mesh.vertices
+        return np.vstack([prism_vertices(p) for p in self.prisms])
+
+
+def _from_prisms(prisms: list[Prism], clipped: bool) -> _Solid:
+    if len(prisms) == 1:
+        fp = prism_footprint(prisms[0])
+    else:
+        fp = polygonal(shapely.union_all([prism_footprint(p) for p in prisms]))
+    zr = [prism_zrange(p) for p in prisms]
+    return _Solid(fp, min(z[0] for z in zr), max(z[1] for z in zr), sum(prism_volume(p) for p in prisms),
+                  all(prism_is_vertical(p) for p in prisms), clipped, prisms)
+
+
+def _polys(shape: PlanShape) -> list[Polygon]:
+    if isinstance(shape, MultiPolygon):
+        return list(shape.geoms)
+    return [shape] if isinstance(shape, Polygon) and not shape.is_empty else []
+
+
+def _outline(shape: PlanShape) -> np.ndarray:
+    return np.vstack([np.asarray(p.exterior.coords) for p in _polys(shape)])
+
+
+def _bool(v) -> bool | None:
+    v = getattr(v, "wrappedValue", v)
+    if isinstance(v, bool):
+        return v
+    if isinstance(v, str):
+        s = v.strip().upper().strip(".")
+        if s in ("TRUE", "T", "YES"):
+            return True
+        if s in ("FALSE", "F", "NO"):
+            return False
+    return None
+
+
+def _ids(items, limit: int = 5) -> str:
+    ids = [i for i in items if i]
+    more = len(ids) - limit
+    return ", ".join(ids[:limit]) + (f" and {more} more" if more > 0 else "")
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}{'' if n == 1 else 's'}"
+
+
+def _label(el) -> str:
+    name = (el.Name or "").strip()
+    return f"{el.is_a()} {el.GlobalId}" + (f" '{name}'" if name else "")
+
+
+# ---------------------------------------------------------------------------- the reader
+
+class _Reader:
+    def __init__(self, model, path: Path, levels: LevelSettings) -> None:
+        self.model = model
+        self.path = path
+        self.where = str(path)
+        self.levels = levels
+        self.warnings: list[str] = []
+        self.mesh_ids: list[str] = []
+        self.mesh_types: Counter[str] = Counter()
+        self.no_geometry: dict[str, list[str]] = defaultdict(list)
+        self.clipped: dict[str, list[str]] = defaultdict(list)
+        self.no_material: dict[str, list[str]] = defaultdict(list)
+        self.layer_mismatch: list[str] = []
+        self.skipped_openings: list[str] = []
+        self.inclined_columns: list[str] = []
+
+    # -- relationships ----------------------------------------------------------------
+    def _scan(self) -> None:
+        m = self.model
+        self.container: dict[int, object] = {}
+        for rel in m.by_type("IfcRelContainedInSpatialStructure"):
+            s = rel.RelatingStructure
+            for e in rel.RelatedElements or ():
+                self.container.setdefault(e.id(), s)
+        self.parent: dict[int, object] = {}
+        self.children: dict[int, list] = defaultdict(list)
+        for rel in m.by_type("IfcRelAggregates"):
+            par = rel.RelatingObject
+            for c in rel.RelatedObjects or ():
+                self.parent.setdefault(c.id(), par)
+                self.children[par.id()].append(c)
+        if m.schema != "IFC2X3":
+            for rel in m.by_type("IfcRelNests"):
+                par = rel.RelatingObject
+                for c in rel.RelatedObjects or ():
+                    self.parent.setdefault(c.id(), par)
+        self.voids: dict[int, list] = defaultdict(list)
+        for rel in m.by_type("IfcRelVoidsElement"):
+            self.voids[rel.RelatingBuildingElement.id()].append(rel.RelatedOpeningElement)
+        self.types: dict[int, object] = {}
+        for rel in m.by_type("IfcRelDefinesByType"):
+            t = rel.RelatingType
+            for o in rel.RelatedObjects or ():
+                self.types[o.id()] = t
+        self.load_bearing: dict[int, bool] = {}
+        for rel in m.by_type("IfcRelDefinesByProperties"):
+            pd = rel.RelatingPropertyDefinition
+            if getattr(pd, "Name", None) != "Pset_WallCommon" or not pd.is_a("IfcPropertySet"):
+                continue
+            lb = self._pset_load_bearing(pd)
+            if lb is not None:
+                for o in rel.RelatedObjects or ():
+                    self.load_bearing[o.id()] = lb
+
+    @staticmethod
+    def _pset_load_bearing(pset) -> bool | None:
+        for prop in pset.HasProperties or ():
+            if prop.Name == "LoadBearing" and prop.is_a("IfcPropertySingleValue"):
+                return _bool(prop.NominalValue)
+        return None
+
+    def _type_load_bearing(self, el) -> bool | None:
+        t = self.types.get(el.id())
+        for pset in (getattr(t, "HasPropertySets", None) or ()) if t is not None else ():
+            if getattr(pset, "Name", None) == "Pset_WallCommon" and pset.is_a("IfcPropertySet"):
+                return self._pset_load_bearing(pset)
+        return None
+
+    def _spatial_parent(self, obj):
+        """The storey (or building) an element or space belongs to, via containment/aggregation."""
+        cur = obj
+        for _ in range(64):
+            if cur is None:
+                return None
+            if cur.is_a("IfcBuildingStorey") or cur.is_a("IfcBuilding"):
+                return cur
+            nxt = self.container.get(cur.id())
+            if nxt is None:
+                nxt = self.parent.get(cur.id())
+            cur = nxt
+        return None
+
+    def _building_of(self, storey):
+        cur = self.parent.get(storey.id())
+        for _ in range(64):
+            if cur is None:
+                return None
+            if cur.is_a("IfcBuilding"):
+                return cur
+            cur = self.parent.get(cur.id()) or self.container.get(cur.id())
+        return None
+
+    # -- bodies -----------------------------------------------------------------------
+    def _solid(self, el, kind: str, openings: bool = False) -> _Solid | None:
+        rep = getattr(el, "Representation", None)
+        reps = list(rep.Representations or ()) if rep is not None else []
+        body = [r for r in reps if str(r.RepresentationIdentifier or "").lower() == "body"]
+        if not body:
+            body = [r for r in reps if str(r.RepresentationType or "") in _BODY_TYPES]
+        if not body:
+            if not openings:
+                self.no_geometry[kind].append(_label(el))
+            return None
+        base = self.geo.placement(el.ObjectPlacement)
+        try:
+            prisms, clipped = self.geo.items_prisms(body[0].Items, base)
+            if not prisms:
+                raise NotParametric("empty body")
+            solid = _from_prisms(prisms, clipped)
+            if clipped and not openings:
+                self.clipped[kind].append(el.GlobalId)
+            return solid
+        except NotParametric as why:
+            reason = str(why).split(" ")[0]
+        try:
+            faces, clipped = self.geo.items_faces(body[0].Items, base)
+            mb = faces_body(faces)
+        except NotParametric:
+            clipped = False
+            mb = mesh_body(el)
+        if mb is None:
+            if not openings:
+                self.no_geometry[kind].append(f"{_label(el)} ({reason})")
+            return None
+        if not openings:
+            self.mesh_ids.append(el.GlobalId)
+            self.mesh_types[reason] += 1
+            if clipped:
+                self.clipped[kind].append(el.GlobalId)
+        return _Solid(mb.footprint, mb.zmin, mb.zmax, mb.volume_m3, not mb.sloped, clipped, [], mb)
+
+    def _openings(self, el):
+        for op in self.voids.get(el.id(), ()):
+            ptype = str(getattr(op, "PredefinedType", None) or getattr(op, "ObjectType", None) or "").upper()
+            if ptype == "RECESS":
+                continue
+            sol = self._opening_cache.get(op.id())
+            if sol is None and op.id() not in self._opening_cache:
+                sol = self._solid(op, "opening", openings=True)
+                self._opening_cache[op.id()] = sol
+            yield op, sol
+
+    # -- elements ---------------------------------------------------------------------
+    def _predefined(self, el) -> str:
+        occ = getattr(el, "PredefinedType", None)
+        if occ in (None, "NOTDEFINED"):
+            t = self.types.get(el.id())
+            tt = getattr(t, "PredefinedType", None) if t is not None else None
+            if tt not in (None, "NOTDEFINED"):
+                return str(tt)
+        return str(occ or "NOTDEFINED")
+
+    def _material(self, el, kind: str):
+        info = self.materials.for_element(el)
+        if info.material is None:
+            self.no_material[kind].append(el.GlobalId)
+        return info
+
+    def _storey_id(self, el) -> str | None:
+        sp = self._spatial_parent(el)
+        return sp.GlobalId if sp is not None and sp.is_a("IfcBuildingStorey") else None
+
+    def _slab(self, el) -> Placed | None:
+        solid = self._solid(el, "slab")
+        if solid is None:
+            return None
+        sloped = not solid.vertical
+        area0 = float(solid.footprint.area)
+        if solid.mesh is not None and not sloped:
+            thickness = solid.zmax - solid.zmin
+        else:
+            thickness = solid.volume_m3 / area0 if area0 > 0 else 0.0
+        if solid.prisms and any(p.depth_m <= 0 for p in solid.prisms):
+            thickness = 0.0
+        if not (thickness > 1e-9) or area0 <= 0:
+            self.warnings.append(f"{self.where}: slab {_label(el)} has zero thickness or area; skipped")
+            return None
+        footprint = solid.footprint
+        cuts = []
+        for op, sol in self._openings(el):
+            if sol is None or sol.mesh is not None or not sol.vertical:
+                self.skipped_openings.append(op.GlobalId)
+                continue
+            if sol.zmax < solid.zmin - 1e-6 or sol.zmin > solid.zmax + 1e-6:
+                continue
+            cuts.append(sol.footprint)
+        if cuts:
+            footprint = polygonal(footprint.difference(shapely.union_all(cuts)))
+        info = self._material(el, "slab")
+        slab = Slab(global_id=el.GlobalId, name=str(el.Name or ""), footprint=footprint, thickness_m=float(thickness),
+                    top_elevation_m=float(solid.zmax), predefined_type=self._predefined(el), sloped=sloped,
+                    material=info.material, storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
+        return Placed(slab, solid.zmin, solid.zmax)
+
+    def _axis_from_rep(self, el) -> np.ndarray | None:
+        rep = getattr(el, "Representation", None)
+        if rep is None:
+            return None
+        for r in rep.Representations or ():
+            if str(r.RepresentationIdentifier or "").lower() != "axis" or not r.Items:
+                continue
+            try:
+                pts = self.geo.curve_points(r.Items[0]) * self.geo.scale
+            except NotParametric:
+                return None
+            except (AttributeError, TypeError, IndexError, ValueError):
+                return None
+            if len(pts) < 2:
+                return None
+            m = self.geo.placement(el.ObjectPlacement)
+            world = pts @ m[:2, :2].T + m[:2, 3]
+            if float(np.linalg.norm(world[-1] - world[0])) < 1e-6:
+                return None
+            return world
+        return None
+
+    def _wall(self, el) -> Placed | None:
+        solid = self._solid(el, "wall")
+        if solid is None:
+            return None
+        height = solid.zmax - solid.zmin
+        fp = solid.footprint
+        if height <= 1e-9 or fp.is_empty or fp.area <= 0:
+            self.warnings.append(f"{self.where}: wall {_label(el)} has no height or plan area; skipped")
+            return None
+        ring = _outline(fp)
+        axis = self._axis_from_rep(el)
+        if axis is not None:
+            a, b = axis[0], axis[-1]
+            chord = float(np.linalg.norm(b - a))
+            u = (b - a) / chord
+            v = np.array([-u[1], u[0]])
+            length = float(np.linalg.norm(np.diff(axis, axis=0), axis=1).sum())
+            dev = np.abs((axis - a) @ v).max()
+            straight = dev <= 0.01 * chord + 1e-3
+            if straight:
+                vs = (ring - a) @ v
+                off = 0.5 * (vs.min() + vs.max())
+                t_geom = float(vs.max() - vs.min())
+                a, b = a + off * v, b + off * v
+            else:
+                t_geom = float(fp.area) / length
+        else:
+            rect = np.asarray(shapely.oriented_envelope(fp).exterior.coords)[:4]
+            e1, e2 = rect[1] - rect[0], rect[2] - rect[1]
+            l1, l2 = float(np.linalg.norm(e1)), float(np.linalg.norm(e2))
+            centre = rect.mean(axis=0)
+            long_v, length, t_geom = (e1, l1, l2) if l1 >= l2 else (e2, l2, l1)
+            u = long_v / max(length, 1e-300)
+            a, b = centre - 0.5 * length * u, centre + 0.5 * length * u
+            if length > 0 and fp.area < 0.9 * length * t_geom:
+                t_geom = float(fp.area) / length
+        info = self._material(el, "wall")
+        thickness = t_geom
+        if info.layer_set_usage and info.layer_total_m:
+            if abs(info.layer_total_m - t_geom) <= max(_LAYER_TOL_ABS, _LAYER_TOL_REL * t_geom):
+                thickness = info.layer_total_m
+            else:
+                self.layer_mismatch.append(f"{el.GlobalId} ({info.layer_total_m:.3f} vs {t_geom:.3f} m)")
+        if length <= 1e-9 or thickness <= 1e-9:
+            self.warnings.append(f"{self.where}: wall {_label(el)} has no length or thickness; skipped")
+            return None
+        base = solid.zmin
+        u = (b - a) / float(np.linalg.norm(b - a))
+        openings = []
+        for op, sol in self._openings(el):
+            if sol is None:
+                self.skipped_openings.append(op.GlobalId)
+                continue
+            pts = sol.vertices()
+            s = (pts[:, :2] - a) @ u
+            start, end = max(0.0, float(s.min())), min(length, float(s.max()))
+            sill = max(0.0, sol.zmin - base)
+            head = min(height, sol.zmax - base)
+            if end - start <= 1e-6 or head - sill <= 1e-6:
+                continue
+            openings.append(WallOpening(start, end, sill, head, op.GlobalId))
+        openings.sort(key=lambda o: o.start_m)
+        lb = self.load_bearing.get(el.id())
+        if lb is None:
+            lb = self._type_load_bearing(el)
+        wall = Wall(global_id=el.GlobalId, name=str(el.Name or ""),
+                    axis_m=((float(a[0]), float(a[1])), (float(b[0]), float(b[1]))), length_m=float(length),
+                    thickness_m=float(thickness), height_m=float(height), base_elevation_m=float(base),
+                    footprint=fp, openings=tuple(openings), load_bearing=lb, material=info.material,
+                    storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
+        return Placed(wall, solid.zmin, solid.zmax)
+
+    def _column(self, el) -> Placed | None:
+        solid = self._solid(el, "column")
+        if solid is None:
+            return None
+        height = solid.zmax - solid.zmin
+        section = solid.footprint
+        if solid.prisms and not solid.vertical:
+            p = solid.prisms[0]
+            c = p.profile.centroid
+            start = p.matrix[:3, :2] @ np.array([c.x, c.y]) + p.matrix[:3, 3]
+            section = shapely.affinity.translate(p.profile, float(start[0] - c.x), float(start[1] - c.y))
+            self.inclined_columns.append(el.GlobalId)
+        if height <= 1e-9 or section.is_empty or section.area <= 0:
+            self.warnings.append(f"{self.where}: column {_label(el)} has no height or section; skipped")
+            return None
+        info = self._material(el, "column")
+        col = Column(global_id=el.GlobalId, name=str(el.Name or ""), section=section, height_m=float(height),
+                     base_elevation_m=float(solid.zmin), material=info.material, storey_id=self._storey_id(el),
+                     from_mesh=solid.mesh is not None)
+        return Placed(col, solid.zmin, solid.zmax)
+
+    # -- storeys ----------------------------------------------------------------------
+    def _usage(self, storey) -> str | None:
+        def match(text: str) -> str | None:
+            t = text.lower()
+            for label, rx in _USAGE_RULES:
+                if rx.search(t):
+                    return label
+            return None
+
+        own = match(" ".join(str(x) for x in (storey.Name, getattr(storey, "LongName", None)) if x))
+        if own:
+            return own
+        votes: Counter[str] = Counter()
+        stack = list(self.children.get(storey.id(), ()))
+        seen = 0
+        while stack and seen < 10000:
+            obj = stack.pop()
+            seen += 1
+            if obj.is_a("IfcSpace"):
+                u = match(" ".join(str(x) for x in (obj.Name, getattr(obj, "LongName", None),
+                                                     getattr(obj, "ObjectType", None)) if x))
+                if u:
+                    votes[u] += 1
+                stack.extend(self.children.get(obj.id(), ()))
+        return votes.most_common(1)[0][0] if votes else None
+
+    def _elevation(self, storey) -> float:
+        attr = getattr(storey, "Elevation", None)
+        z_pl = None
+        if storey.ObjectPlacement is not None:
+            z_pl = float(self.geo.placement(storey.ObjectPlacement)[2, 3])
+        if attr is None:
+            if z_pl is None:
+                self.warnings.append(f"{self.where}: storey {_label(storey)} has neither Elevation nor placement; 0 assumed")
+                return 0.0
+            return z_pl
+        z = float(attr) * self.geo.scale
+        if z_pl is not None and abs(z_pl - z) > 1e-3:
+            self.warnings.append(f"{self.where}: storey '{storey.Name}' Elevation {z:.3f} m differs from its "
+                                 f"placement z {z_pl:.3f} m; the placement is used")
+            return z_pl
+        return z
+
+    # -- run --------------------------------------------------------------------------
+    def run(self) -> Takeoff:
+        m = self.model
+        units = read_units(m, self.where)
+        self.warnings.extend(units.warnings)
+        self.geo = Geometry(units.length_m, units.angle_rad, None, self.where)
+        ctx = read_context(m, self.geo.axis2)
+        self.geo.wcs = ctx.wcs if not np.allclose(ctx.wcs, np.eye(4)) else None
+        storeys = m.by_type("IfcBuildingStorey")
+        if not storeys:
+            raise InputError(f"{self.where}: no IfcBuildingStorey (the model has no storeys to screen)")
+        self._scan()
+        self._opening_cache: dict[int, _Solid | None] = {}
+        self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa)
+
+        buildings = list(m.by_type("IfcBuilding"))
+        bld_storeys: dict[int, list] = defaultdict(list)
+        orphan_storeys = []
+        for s in storeys:
+            b = self._building_of(s)
+            if b is None:
+                orphan_storeys.append(s)
+            else:
+                bld_storeys[b.id()].append(s)
+        if orphan_storeys:
+            if len(buildings) == 1:
+                bld_storeys[buildings[0].id()].extend(orphan_storeys)
+            else:
+                if not buildings:
+                    self.warnings.append(f"{self.where}: no IfcBuilding; the storeys are read as one building")
+                else:
+                    self.warnings.append(f"{self.where}: {_plural(len(orphan_storeys), 'storey')} in no IfcBuilding "
+                                         "are read as a building of their own")
+                bld_storeys[-1].extend(orphan_storeys)
+        storey_bld = {s.id(): bid for bid, ss in bld_storeys.items() for s in ss}
+
+        per_bld: dict[int, dict[str, list[Placed]]] = defaultdict(lambda: {"slabs": [], "walls": [], "columns": []})
+        first_bid = next(iter(b.id() for b in buildings if b.id() in bld_storeys), next(iter(bld_storeys)))
+        unplaced = 0
+        for kind, ifc_type, reader in (("slabs", "IfcSlab", self._slab), ("walls", "IfcWall", self._wall),
+                                       ("columns", "IfcColumn", self._column)):
+            for el in m.by_type(ifc_type):
+                placed = reader(el)
+                if placed is None:
+                    continue
+                sp = self._spatial_parent(el)
+                if sp is not None and sp.is_a("IfcBuildingStorey"):
+                    bid = storey_bld.get(sp.id(), first_bid)
+                elif sp is not None and sp.id() in bld_storeys:
+                    bid = sp.id()
+                else:
+                    bid = first_bid
+                    if len(bld_storeys) > 1:
+                        unplaced += 1
+                per_bld[bid][kind].append(placed)
+        if unplaced:
+            self.warnings.append(f"{self.where}: {_plural(unplaced, 'element')} in no storey or building are "
+                                 "read with the first building")
+
+        results = []
+        for bid, ss in bld_storeys.items():
+            b = m.by_id(bid) if bid >= 0 else None
+            bname = str(b.Name or b.LongName or "") if b is not None else "(no IfcBuilding)"
+            sources = [SourceStorey(s.GlobalId, str(s.Name or s.LongName or s.GlobalId), self._elevation(s),
+                                    self._usage(s)) for s in ss]
+            els = per_bld[bid]
+            try:
+                fr = build_storeys(sources, els["slabs"], els["walls"], els["columns"], self.levels, bname)
+            except InputError as exc:
+                raise InputError(f"{self.where}: {exc}") from None
+            results.append(BuildingTakeoff(global_id=b.GlobalId if b is not None else "", name=bname,
+                                           storeys=fr.storeys, ground_elevation_m=fr.ground_elevation_m,
+                                           warnings=fr.warnings))
+        for b in buildings:
+            if b.id() not in bld_storeys:
+                self.warnings.append(f"{self.where}: building '{b.Name or b.GlobalId}' has no storeys; skipped")
+
+        file_warnings = self._summary()
+        all_warnings = tuple(file_warnings + [w for r in results for w in r.warnings])
+        return Takeoff(source_path=str(self.path), schema=_schema_name(m), length_unit=units.length_name,
+                       length_scale_m=units.length_m, true_north_deg=float(ctx.true_north_deg),
+                       buildings=tuple(results), warnings=all_warnings, mesh_elements=tuple(self.mesh_ids))
+
+    def _summary(self) -> list[str]:
+        w = list(self.warnings)
+        where = self.where
+        for kind, items in self.no_geometry.items():
+            w.append(f"{where}: {_plural(len(items), kind)} without readable geometry skipped: {_ids(items)}")
+        if self.mesh_ids:
+            kinds = ", ".join(f"{n} {t}" for t, n in self.mesh_types.most_common())
+            w.append(f"{where}: {_plural(len(self.mesh_ids), 'element')} have no parametric body ({kinds}) and were "
+                     f"read through the geometry engine, projected to plan: {_ids(self.mesh_ids)}")
+        for kind, items in self.clipped.items():
+            w.append(f"{where}: {_plural(len(items), kind)} clipped by half-spaces; the unclipped extrusion is used "
+                     f"(quantities slightly high): {_ids(items)}")
+        for kind, items in self.no_material.items():
+            w.append(f"{where}: {_plural(len(items), kind)} have no material; the settings' default material is "
+                     f"assumed: {_ids(items)}")
+        if self.layer_mismatch:
+            w.append(f"{where}: {_plural(len(self.layer_mismatch), 'wall')} whose material layer total disagrees with "
+                     f"the body thickness; the body is used: {_ids(self.layer_mismatch)}")
+        if self.skipped_openings:
+            w.append(f"{where}: {_plural(len(self.skipped_openings), 'opening')} not vertical extrusions (or without "
+                     f"geometry) not subtracted: {_ids(self.skipped_openings)}")
+        if self.inclined_columns:
+            w.append(f"{where}: {_plural(len(self.inclined_columns), 'column')} inclined; section taken from the "
+                     f"profile at the base: {_ids(self.inclined_columns)}")
+        if self.materials.dropped:
+            w.append(f"{where}: implausible material values ignored: {_ids(self.materials.dropped)}")
+        return w
+
+
+def read_model(path: str | Path, levels: LevelSettings | None = None) -> Takeoff:
+    """Read an IFC file into a takeoff (SI metres, world coordinates).
+
+    Args:
+        path: the .ifc file (IFC2X3, IFC4 or IFC4X3, STEP physical file).
+        levels: floor tolerance, finish-layer threshold and ground rule (defaults when None).
+
+    Raises:
+        InputError: one line naming the file (and element) for unusable input: missing,
+            not IFC, truncated, unsupported schema, unknown length unit, no storeys,
+            cyclic placements.
+    """
+    levels = levels or LevelSettings()
+    p = Path(path)
+    model = open_model(p)
+    try:
+        return _Reader(model, p, levels).run()
+    except InputError:
+        raise
+    except RecursionError:
+        raise InputError(f"{p}: references nest too deeply to read") from None
