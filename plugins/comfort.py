@@ -39,6 +39,7 @@ from .wind_common import MG, AccelerationResult, top_occupied_index
 __all__ = [
     "ComfortSettings",
     "melbourne_palmer_peak",
+    "melbourne_palmer_peak_m_s2",
     "iso6897_rms",
     "ComfortRow",
     "ComfortResult",
@@ -95,6 +96,10 @@ def melbourne_palmer_peak(frequency_hz: float, return_period_yr: float, duration
         raise ValueError(f"frequency {frequency_hz!r} Hz gives f T <= 1 in the Melbourne-Palmer peak factor")
     return (math.sqrt(2.0 * math.log(frequency_hz * duration_s)) * (0.68 + math.log(return_period_yr) / 5.0)
             * math.exp(-3.65 - 0.41 * math.log(frequency_hz)))
+
+
+melbourne_palmer_peak_m_s2 = melbourne_palmer_peak
+"""Alias of :func:`melbourne_palmer_peak` (the name says the unit)."""
 
 
 def iso6897_rms(frequency_hz: float) -> float:

@@ -196,8 +196,13 @@ class DriftResult:
 
     @property
     def storey_drift_ratio_envelope(self) -> tuple[float, ...]:
-        """Largest drift ratio of each storey over all directions."""
+        """Largest drift ratio of each storey over all directions, lowest storey first."""
         return tuple(float(v) for v in np.max([c.storey_drift_ratio for c in self.cases], axis=0))
+
+    @property
+    def storey_drift_ratio(self) -> tuple[float, ...]:
+        """Same as :attr:`storey_drift_ratio_envelope` (per storey, lowest first)."""
+        return self.storey_drift_ratio_envelope
 
 
 def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds: DriftSettings,

@@ -30,6 +30,16 @@ mode; the generalized static response is Y = sum F_i Phi_i / (omega^2 M*), so th
 deflection is Y Phi_top and Delta = C_g Y Phi_top (Phi = 1 at the top). A one-mode
 estimate: it omits higher-mode static flexibility (a few per cent for a cantilever).
 
+Modes: for each direction the mode with the largest effective mass along the response is
+used (n_D along, n_W across). The across-wind formula assumes a mode moving purely across
+the wind; for a skewed or lateral-torsional mode its result is multiplied by the share of
+the mode's kinetic energy moving across the wind, done by dividing the building density by
+that share (details ``rho_B_kg_m3`` is this effective density, ``rho_B_gross_kg_m3`` the bulk
+M/(W D H)); a translational mode at angle alpha to
+the across-wind direction gives cos^2 alpha across and cos alpha along its own axis, as the
+modal EN path does). The along-wind result needs no such factor: Delta comes from the mode's
+own generalized mass.
+
 Validity (reported, result still given): W/D within 1/3..3 and reduced velocity
 V_H/(n_W sqrt(W D)) <= 10 for the across-wind fit (the range of the wind-tunnel data it
 came from, from memory); the dynamic procedure's range: lowest frequency >= 0.25 Hz and
@@ -39,6 +49,7 @@ wind-tunnel testing.
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -151,6 +162,7 @@ def nbcc_peak_factor(nu_hz: float, duration_s: float = 3600.0) -> float:
     return r + 0.5772 / r
 
 
+@lru_cache(maxsize=256)
 def nbcc_background_factor(height_m: float, width_m: float) -> float:
     """B = 4/3 int_0^(914/H) [1/(1 + xH/457)] [1/(1 + xW/122)] x/(1 + x^2)^(4/3) dx."""
     def f(x: float) -> float:
@@ -301,13 +313,15 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
                     "participation": part, "share": share, "generalized_mass_kg": gm, "w_eff_m": w_eff,
                 }
                 if response == "across":
-                    res = nbcc_across_wind(n, w, d, v_h, rho_b, beta, ns.peak_factor_duration_s)
+                    formula = nbcc_across_wind(n, w, d, v_h, rho_b, beta, ns.peak_factor_duration_s)
+                    res = nbcc_across_wind(n, w, d, v_h, rho_b / share, beta, ns.peak_factor_duration_s)
                     valid_extra = res.reduced_velocity <= ns.max_reduced_velocity
                     if not valid_extra:
                         case_notes.append(f"reduced velocity {res.reduced_velocity:.1f} above "
                                           f"{ns.max_reduced_velocity:g}")
                     details.update({"a_r_n_m3": res.a_r_n_m3, "reduced_velocity": res.reduced_velocity,
-                                    "g_p": res.g_p})
+                                    "g_p": res.g_p, "a_W_formula_m_s2": formula.peak_m_s2,
+                                    "rho_B_kg_m3": rho_b / share, "rho_B_gross_kg_m3": rho_b})
                     peak = res.peak_m_s2
                 else:
                     q = 0.5 * ns.air_density_kg_m3 * v10 ** 2

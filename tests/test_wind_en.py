@@ -460,3 +460,33 @@ def test_coupled_mode_is_noted() -> None:
     assert by[225.0].details["share_along"] == pytest.approx(1.0, rel=1e-12)
     assert by[225.0].details["participation_along"] == pytest.approx(2 * by[0.0].details["participation_along"])
     assert "coupled" not in by[225.0].note
+
+
+def test_with_the_modal_plugin_mode_shape() -> None:
+    # Real modal analysis of a uniform Euler-Bernoulli core (lumped, 40 floors): the lowest
+    # y mode has f_1 close to 0.55959 sqrt(EI/(m L^4)) (Blevins / methods sheet 7), and its
+    # discrete K_x lies between the B.11 values for zeta = 1 and 1.5 (EN 1991-1-4 F.13 gives
+    # zeta = 1.5 for slender cantilevers; the exact cantilever mode is in between); m_e equals
+    # the uniform mass per height (F.14 for a uniform mass, any shape).
+    from swayscreen.pipeline.stick import Segment
+    from swayscreen.plugins.modal import modal_analysis
+
+    n, h, ei = 40, 3.5, 1.7e13
+    base = make_tower(n=n, storey_m=h, top_mass_factor=0.5)
+    segs = tuple(Segment("core-1", "core", i, h, (0.0, 0.0), ei_xx_nm2=ei, ei_yy_nm2=1.5 * ei, gj_nm2=5e12)
+                 for i in range(n))
+    stick = dataclasses.replace(base, segments=segs)
+    modal = modal_analysis(stick, n_modes=6, p_delta=False)
+    mu = stick.levels[0].mass_kg / h
+    f_eb = 0.55959 * math.sqrt(ei / (mu * (n * h) ** 4))
+    res = en_accelerations(stick, modal.modes, WindSettings(), [10.0])
+    case = next(c for c in res.cases if c.direction_deg == 0.0)  # along -y: the y mode
+    assert case.frequency_hz == pytest.approx(f_eb, rel=5e-3)
+    assert case.mode_index == next(m.index for m in modal.modes if m.kind == "y")
+    assert case.details["m_e_kg_m"] == pytest.approx(mu, rel=1e-9)
+    zs = 0.6 * n * h
+    assert k_x_factor(1.0, zs, 0.3) < case.details["K_x"] < k_x_factor(1.5, zs, 0.3)
+    # the plugin reads results["modes"].modes
+    ctx = Context(stick, BuildingTakeoff("B-1", "t", ()), Settings({"wind": WindSettings()}), {"modes": modal})
+    via_plugin = PLUGIN.run(ctx)["accel_en"]
+    assert via_plugin.governing(10.0).peak_mg == pytest.approx(res.governing(10.0).peak_mg, rel=1e-12)
