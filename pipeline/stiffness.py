@@ -253,6 +253,22 @@ def _supports(pts: np.ndarray, i: int, walls: BaseGeometry | None, axis: int) ->
     return out[0], out[1]
 
 
+def _strips(field: SlabField | None, x: float, y: float, spans: tuple[float | None, float | None],
+            across: list[float], stiffness: StiffnessSettings) -> float:
+    """Sum of E f_s (b d^3 / 12) / L over the slab strips meeting a column joint (N m)."""
+    if not field:
+        return 0.0
+    t, e = field.at(x, y)
+    total = 0.0
+    for span in spans:
+        if span is None:
+            continue
+        panel = statistics.fmean(across) if across else span
+        b = stiffness.slab_strip_width_ratio * panel
+        total += e * stiffness.slab_flexure_factor * b * t ** 3 / 12.0 / span
+    return total
+
+
 def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: str, length_m: float,
                    top: SlabField | None, bottom: SlabField | None, fixed_base: bool,
                    walls: BaseGeometry | None, stiffness: StiffnessSettings
@@ -325,26 +341,12 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
                 a_dir.append(NO_SLAB_RESTRAINT)
                 continue
             k_col = c.e_pa * f_c * i_bend / h
-            minus, plus = spans[i][axis]
             across = [v for v in spans[i][1 - axis] if v is not None]
-
-            def strip_sum(field: SlabField | None) -> float:
-                if not field:
-                    return 0.0
-                t, e = field.at(x, y)
-                total = 0.0
-                for span in (minus, plus):
-                    if span is None:
-                        continue
-                    panel = statistics.fmean(across) if across else span
-                    b = stiffness.slab_strip_width_ratio * panel
-                    total += e * stiffness.slab_flexure_factor * b * t ** 3 / 12.0 / span
-                return total
-
+            k_top = _strips(top, x, y, spans[i][axis], across, stiffness)
             if fixed_base:
-                k_bar = strip_sum(top) / k_col
+                k_bar = k_top / k_col
             else:
-                k_bar = (strip_sum(top) + strip_sum(bottom)) / (2.0 * k_col)
+                k_bar = (k_top + _strips(bottom, x, y, spans[i][axis], across, stiffness)) / (2.0 * k_col)
             a_dir.append(muto_factor(k_bar, fixed_base=fixed_base))
         k_x = a_dir[0] * 12.0 * c.e_pa * f_c * iyy / h ** 3
         k_y = a_dir[1] * 12.0 * c.e_pa * f_c * ixx / h ** 3

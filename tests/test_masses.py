@@ -344,3 +344,83 @@ def test_nothing_to_weigh() -> None:
     layout, levels, _ = masses_of(BuildingTakeoff("B1", "Empty", storeys))
     assert layout.floors == () and levels == []
     assert "no floor above the ground storey" in layout.notes
+
+
+# --------------------------------------------------------------------------------------------------
+# Which storeys become floors (pipeline/floors.py rule)
+# --------------------------------------------------------------------------------------------------
+
+def _with(building: BuildingTakeoff, *storeys: Storey) -> BuildingTakeoff:
+    return BuildingTakeoff(building.global_id, building.name, tuple(sorted(building.storeys + storeys,
+                                                                          key=lambda s: s.elevation_m)))
+
+
+def test_basement_is_not_a_floor_and_the_ground_slab_is_the_base() -> None:
+    b = example_building()
+    basement = Storey("B1", "B1", -4.0, 4.0, False, (slab("SB", box(0, 0, 40, 40), 0.4, -4.0),),
+                      tuple(wall(f"WB{i}", p, q, 0.4, 4.0, -4.0) for i, (p, q) in enumerate(CORE)))
+    layout, levels, _ = masses_of(_with(b, basement))
+    assert layout.base_elevation_m == 0.0
+    assert [f.name for f in layout.floors] == ["L1", "L2", "L3", "Roof"]
+    _, ref, _ = masses_of(b)
+    assert levels[0].mass_kg == pytest.approx(ref[0].mass_kg, rel=1e-12)
+
+
+def test_storeys_close_together_are_one_floor() -> None:
+    # A second storey datum 0.2 m above L2 (within floor_tolerance_m = 0.5 m) holding nothing of its own.
+    b = _with(example_building(), Storey("X", "L2 services", 7.2, 3.3, True,
+                                         (slab("SX", box(0, 0, 10, 10), 0.03, 7.2),)))
+    layout, levels, _ = masses_of(b)
+    assert [f.elevation_m for f in layout.floors] == [3.5, 7.0, 10.5, 14.0]
+    assert layout.floors[1].name == "L2 + L2 services"
+    assert any("treated as one floor" in n for n in layout.notes)
+    assert any("thinner than 0.06 m treated as finishes" in n for n in layout.notes)
+
+
+def test_datum_only_storey_on_top_is_ignored() -> None:
+    b = _with(example_building(), Storey("P", "Top of parapet", 15.2, 1.2, True))
+    layout, _, _ = masses_of(b)
+    assert [f.name for f in layout.floors] == ["L1", "L2", "L3", "Roof"]
+    assert any("'Top of parapet' holds no slabs" in n for n in layout.notes)
+
+
+def test_landing_between_floors_is_shared_by_elevation() -> None:
+    # A 0.2 m landing with its top at 5.25 m (mid-thickness 5.15 m) between floors at 3.5 and 7.0 m: by the linear
+    # shape functions (5.15 - 3.5) / 3.5 of its weight goes to the floor above, the rest to the floor below.
+    b = example_building()
+    st1 = b.storeys[1]
+    landing = slab("LAND", box(16, 16, 19, 18), 0.2, 5.25, "LANDING")
+    st1b = Storey(st1.global_id, st1.name, st1.elevation_m, st1.height_m, True, st1.slabs + (landing,),
+                  st1.walls, st1.columns)
+    layout, levels, _ = masses_of(BuildingTakeoff("B1", "Example", (b.storeys[0], st1b) + b.storeys[2:]))
+    _, ref, _ = masses_of(b)
+    m = 6 * 0.2 * 25 * KN
+    up = (5.15 - 3.5) / 3.5
+    assert dict(levels[1].components_kg)["slabs"] - dict(ref[1].components_kg)["slabs"] == pytest.approx(up * m)
+    assert dict(levels[0].components_kg)["slabs"] - dict(ref[0].components_kg)["slabs"] == pytest.approx((1 - up) * m)
+    assert len(layout.loose_slabs) == 1
+
+
+def test_top_storey_without_roof_slab() -> None:
+    # Walls on the top storey reach its ceiling but no roof slab was modelled: the roof floor sits at the storey
+    # height and borrows the plate below (with warnings).
+    storeys = [example_storey(k, 3.5 * k) for k in range(4)]
+    layout, levels, warnings = masses_of(BuildingTakeoff("B1", "Open top", tuple(storeys)))
+    assert [f.elevation_m for f in layout.floors] == [3.5, 7.0, 10.5, 14.0]
+    assert layout.floors[-1].roof_without_slab and layout.floors[-1].storey_id == "ST3#roof"
+    assert any("no roof slab found above storey 'L3'" in n for n in layout.notes)
+    assert any("no slab found at floor(s) 'L3 roof' (from 'L3')" in w for w in warnings)
+
+
+def test_parapets_on_a_roof_storey_lump_to_the_roof() -> None:
+    # 1.2 m parapet walls on the roof storey (shorter than ROOF_MIN_ELEMENT_M): the roof stays at the roof slab and
+    # carries all of their weight.
+    b = example_building()
+    roof = b.storeys[-1]
+    parapet = wall("PAR", (0.2, 0.2), (39.8, 0.2), 0.2, 1.2, 14.0, load_bearing=True)
+    roof2 = Storey(roof.global_id, roof.name, roof.elevation_m, 1.2, True, roof.slabs, (parapet,))
+    layout, levels, _ = masses_of(BuildingTakeoff("B1", "Example", b.storeys[:-1] + (roof2,)))
+    _, ref, _ = masses_of(b)
+    assert [f.elevation_m for f in layout.floors] == [3.5, 7.0, 10.5, 14.0]
+    extra = dict(levels[-1].components_kg)["walls"] - dict(ref[-1].components_kg)["walls"]
+    assert extra == pytest.approx(parapet.footprint.area * 1.2 * 25 * KN)
