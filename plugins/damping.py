@@ -213,10 +213,13 @@ class ModeDampers:
             (the level's mass centre); motion_xy: unit vector of the mode's plan motion there.
         modal_mass_kg: M* / |d|^2, generalized mass with the mode shape 1 at the damper.
         zeta_current: the primary's damping used for the 2DOF (the case needing most).
-        zeta_target_total: total damping the damper must give.
-        mass_ratio: effective damper mass / modal mass.
-        tmd: the tuned mass damper (None when not asked for or not reachable).
-        tlcd: the liquid column damper (None when not asked for or not reachable).
+        zeta_target_total: total damping the response model asks for on this mode.
+        mass_ratio_required: effective damper mass / modal mass for that target (2DOF,
+            Warburton tuning), before any closed-loop increase; each proposal carries its
+            own final mass ratio.
+        tmd: the tuned mass damper after closing the loop (None when not asked for or not
+            reachable).
+        tlcd: the liquid column damper after closing the loop (likewise).
         tlcd_fits_plate: the TLCD's horizontal length fits the plate along the motion.
         note: why a proposal is missing, and assumptions.
     """
@@ -230,7 +233,7 @@ class ModeDampers:
     modal_mass_kg: float
     zeta_current: float
     zeta_target_total: float
-    mass_ratio: float | None
+    mass_ratio_required: float | None
     tmd: dm.TmdDesign | None
     tlcd: dm.TlcdDesign | None
     tlcd_fits_plate: bool | None
@@ -721,7 +724,7 @@ def _design(stick: StickModel, building: BuildingTakeoff, modes_by_index: Mappin
             mode_index=m, frequency_hz=float(mode.frequency_hz), kind=str(getattr(mode, "kind", "")),
             level=level.name, point_m=tuple(map(float, level.mass_centre_m)), motion_xy=u,
             modal_mass_kg=m1, zeta_current=need.zeta0, zeta_target_total=need.zeta_target,
-            mass_ratio=need.mu if math.isfinite(m1) else None, tmd=tmd, tlcd=tlcd, tlcd_fits_plate=fits,
+            mass_ratio_required=need.mu if math.isfinite(m1) else None, tmd=tmd, tlcd=tlcd, tlcd_fits_plate=fits,
             note="; ".join(note)))
     tanks = None
     if "tsd" in kinds:
@@ -897,15 +900,16 @@ def advise(stick: StickModel, building: BuildingTakeoff, settings: Mapping[str, 
     if not all_needs:
         return DampingAdvice(needed, ds.target_margin, tuple(advices), notes=tuple(notes + ["no damper needed"]))
     level_index = stick.n_levels - 1
-    scale: dict[int, float] = {}
+    required = _mode_needs(all_needs, ds.max_mass_ratio, {})
     use_nbcc = "accel_nbcc" in results
     loops: list[ClosedLoop] = []
     final_modes: list[ModeDampers] = []
     final_tanks: TankAdvice | None = None
     kinds = ("tmd", "tsd", "tlcd") if ds.damper_type == "all" else (ds.damper_type,)
     for kind in kinds:
-        scale = {}
-        loop = None
+        scale: dict[int, float] = {}
+        loop: ClosedLoop | None = None
+        keep: tuple[list[ModeDampers], TankAdvice | None, list[str]] = ([], None, [])
         for it in range(1, ds.loop_iterations + 1):
             needs = _mode_needs(all_needs, ds.max_mass_ratio, scale)
             mode_out, tanks, units, dnotes = _design(stick, building, modes_by_index, needs,
@@ -939,6 +943,10 @@ def advise(stick: StickModel, building: BuildingTakeoff, settings: Mapping[str, 
         final_modes = _merge_modes(final_modes, mode_out, kind)
         if kind == "tsd":
             final_tanks = tanks
+    final_modes = [replace(m, zeta_current=required[m.mode_index].zeta0,
+                           zeta_target_total=required[m.mode_index].zeta_target,
+                           mass_ratio_required=required[m.mode_index].mu if m.mass_ratio_required is not None else None)
+                   for m in final_modes]
     return DampingAdvice(needed, ds.target_margin, tuple(advices), tuple(final_modes), final_tanks, tuple(loops),
                          tuple(notes))
 
