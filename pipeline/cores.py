@@ -58,7 +58,8 @@ import shapely
 from shapely.geometry import LineString, MultiPolygon, Polygon
 
 from .core_settings import StiffnessSettings
-from .sections import WallSegment, section_props, thin_walled_properties
+from .errors import InputError
+from .sections import WallSegment, combine_section, thin_walled_properties
 from .stick import CoreSummary, SectionProps
 from .takeoff import Storey, Wall
 
@@ -318,51 +319,52 @@ def _door_cuts(w: Wall, length: float, stiffness: StiffnessSettings) -> list[tup
 
 
 def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, SectionProps, bool, PlanShape, str]:
+    """Kind, section, closed flag, plan and note of one connected group of walls.
+
+    Raises:
+        InputError: the walls leave no centre line (all shorter than the node snapping).
+    """
     kind = "core" if len(walls) > 1 else "wall"
     lines = {w.global_id: _wall_line(w) for w in walls}
     plan = _as_plan(shapely.union_all([_footprint(w, lines[w.global_id]) for w in walls]))
     mode = stiffness.core_cells
-    base = wall_segments(walls)
     slits: dict[str, tuple[float, ...]] = {}
     cut_notes: list[str] = []
     if mode == "auto":
         for w in walls:
-            p0, p1, _ = lines[w.global_id]
+            p0, p1, _ = lines[w.global_id]  # type: ignore[misc]
             cuts = _door_cuts(w, math.dist(p0, p1), stiffness)
             if cuts:
                 slits[w.global_id] = tuple(c for c, _ in cuts)
                 cut_notes += [d for _, d in cuts]
-    segs = wall_segments(walls, slits=slits) if slits else base
-    kw = dict(free_end_correction=True, snap_tol_m=_NODE_SNAP_M)
-    if not segs:
-        segs = [WallSegment(tuple(lines[w.global_id][0]), tuple(lines[w.global_id][1]), lines[w.global_id][2], (), w.global_id) for w in walls]
-    section = section_props(segs, plan, torsion_cells=(mode != "open"), **kw)
-    n_geo = thin_walled_properties(base, **kw).n_cells if (slits or mode == "open") else None
-    tw_cells = thin_walled_properties(segs, torsion_cells=(mode != "open"), **kw).n_cells
+    uncut = wall_segments(walls)
+    tw = thin_walled_properties(
+        wall_segments(walls, slits=slits) if slits else uncut,
+        torsion_cells=(mode != "open"), free_end_correction=True, snap_tol_m=_NODE_SNAP_M,
+    )
+    n_geo = tw.n_cells  # cells in plan before cuts and override
+    if slits or mode == "open":
+        n_geo = thin_walled_properties(uncut, free_end_correction=True, snap_tol_m=_NODE_SNAP_M).n_cells
+    section = combine_section(tw, plan)
     depth = f"{stiffness.lintel_min_depth_m:.2f} m"
     cut_text = "; ".join(f"{d} (< {depth}): cut" for d in cut_notes)
     if kind == "wall":
         note = "separate wall"
-        if cut_text:
-            note += f"; {cut_text}"
+    elif n_geo == 0:
+        note = "open section (no closed cell in plan)"
     elif mode == "closed":
-        ncell = tw_cells
-        note = (f"settings core_cells = closed: {ncell} cell(s) taken closed, openings ignored"
-                if ncell else "open section (no closed cell in plan); settings core_cells = closed has nothing to close")
+        note = f"settings core_cells = closed: {tw.n_cells} cell(s) taken closed, openings ignored"
     elif mode == "open":
-        note = (f"settings core_cells = open: {n_geo} cell(s) taken open (St Venant)"
-                if n_geo else "open section (no closed cell in plan)")
+        note = f"settings core_cells = open: {n_geo} cell(s) taken open (St Venant)"
+    elif not cut_notes:
+        tail = f"every opening keeps a lintel >= {depth}" if any(w.openings for w in walls) else "no openings"
+        note = f"door rule: {tw.n_cells} cell(s) closed; {tail}"
     else:
-        n_all = n_geo if n_geo is not None else tw_cells
-        if n_all == 0:
-            note = "open section (no closed cell in plan)"
-            if cut_text:
-                note += f"; {cut_text}"
-        elif not cut_notes:
-            note = (f"door rule: {tw_cells} cell(s) closed; every opening keeps a lintel >= {depth}"
-                    if any(w.openings for w in walls) else f"door rule: {tw_cells} cell(s) closed; no openings")
-        else:
-            note = f"door rule: {tw_cells} of {n_all} cell(s) act closed after cuts; {cut_text}"
+        note = f"door rule: {tw.n_cells} of {n_geo} cell(s) act closed after cuts"
+    if cut_text:
+        note += f"; {cut_text}"
+    if tw.n_parts > 1:
+        note += f"; centre lines in {tw.n_parts} unconnected parts (shear centre from their stiffness centre)"
     return kind, section, section.closed, plan, note
 
 
@@ -388,7 +390,11 @@ def _find_systems(
     found = []
     for comp in nx.connected_components(graph):
         group = sorted((kept[k] for k in comp), key=lambda w: w.global_id)
-        kind, section, closed, plan, note = _system(group, stiffness)
+        try:
+            kind, section, closed, plan, note = _system(group, stiffness)
+        except InputError as err:
+            warnings.append(f"walls {', '.join(w.global_id for w in group)} give no section ({err}): left out")
+            continue
         found.append((kind, tuple(w.global_id for w in group), section, closed, plan, note))
     found.sort(key=lambda f: (-f[4].area, round(f[2].centroid_m[0], 6), round(f[2].centroid_m[1], 6), f[1]))
     counters = {"core": 0, "wall": 0}
@@ -502,16 +508,17 @@ def find_systems_by_storey(
         # candidate pairs: (priority, overlap, new index, old id)
         pairs = []
         overlaps: dict[int, list[str]] = {}
-        for n, new in enumerate(systems):
-            for prio, pool in ((1, [(s.system_id, s) for s in prev]), (0, older)):
-                for sid, old in pool:
-                    if not new.plan.bounds or not _bbox_touch(new.plan, old.plan):
-                        continue
-                    ov = new.plan.intersection(old.plan).area
-                    if ov > 1e-9:
-                        pairs.append((prio, ov, n, sid))
-                        if prio == 1:
-                            overlaps.setdefault(n, []).append(sid)
+        pool = [(1, s.system_id, s.plan) for s in prev] + [(0, sid, old.plan) for sid, old in older]
+        if pool and systems:
+            tree = shapely.STRtree([c[2] for c in pool])
+            hits_new, hits_old = tree.query([s.plan for s in systems], predicate="intersects")
+            for n, m in zip(hits_new.tolist(), hits_old.tolist()):
+                prio, sid, old_plan = pool[m]
+                ov = systems[n].plan.intersection(old_plan).area
+                if ov > 1e-9:
+                    pairs.append((prio, ov, n, sid))
+                    if prio == 1:
+                        overlaps.setdefault(n, []).append(sid)
         pairs.sort(key=lambda p: (-p[0], -p[1], p[2], p[3]))
         assigned: dict[int, str] = {}
         used: set[str] = set()
@@ -594,9 +601,3 @@ def find_systems_by_storey(
         for sid in first_seen
     ]
     return by_storey, summaries, warnings
-
-
-def _bbox_touch(a: PlanShape, b: PlanShape) -> bool:
-    ax0, ay0, ax1, ay1 = a.bounds
-    bx0, by0, bx1, by1 = b.bounds
-    return ax0 <= bx1 and bx0 <= ax1 and ay0 <= by1 and by0 <= ay1

@@ -38,7 +38,8 @@ thin-walled sections; formulas as in /work/shared/reference/methods.md section 9
   the 8 x 6 m box of methods.md section 9). With ``free_end_correction=True`` each free
   end of an open wall subtracts 0.105 t^4, which turns a single rectangle into the
   refined ``(b t^3/3)(1 - 0.63 t/b)`` (methods.md section 9 [MEM; DER]); junctions
-  take no correction.
+  take no correction, and no piece drops below 0.1406 a b^3 (the square's value, for
+  pieces shorter than twice their thickness).
 * Shear areas: every wall element counts with ``L t cos^2(theta)`` for shear in x and
   ``L t sin^2(theta)`` for shear in y, theta its angle to x (the "web area" rule:
   webs parallel to the shear carry it). No form factor is applied: against the
@@ -89,7 +90,9 @@ __all__ = [
     "ThinWalledProps",
     "thin_walled_properties",
     "section_props",
+    "combine_section",
     "FREE_END_COEFF",
+    "SQUARE_J_COEFF",
 ]
 
 PlanShape = Polygon | MultiPolygon
@@ -97,6 +100,10 @@ PlanShape = Polygon | MultiPolygon
 FREE_END_COEFF = 0.105
 """St Venant reduction per free end, times t^4: 0.63/3/2 from J = (b t^3/3)(1 - 0.63 t/b)
 (methods.md section 9 [MEM; DER vs series solution])."""
+
+
+SQUARE_J_COEFF = 0.1406
+"""J / (a b^3) of a square (a = b) from the exact series, 0.14058 (methods.md section 9 [DER])."""
 
 
 # ---------------------------------------------------------------------------------------
@@ -338,7 +345,7 @@ def _build_network(segments: Sequence[WallSegment], snap_tol_m: float) -> _Net:
         length = math.dist(s.start_m, s.end_m)
         if not (s.thickness_m > 0.0 and math.isfinite(s.thickness_m)):
             raise InputError(f"thin-walled section: wall segment {s.tag or s.start_m} has thickness {s.thickness_m!r} m")
-        if not (length > snap_tol_m and math.isfinite(length)):
+        if not (length > 0.0 and math.isfinite(length)):
             raise InputError(f"thin-walled section: wall segment {s.tag or s.start_m} has no length")
     allpts = [p for s in segments for p in (s.start_m, s.end_m)]
     ref = (float(np.mean([p[0] for p in allpts])), float(np.mean([p[1] for p in allpts])))
@@ -428,6 +435,11 @@ def _build_network(segments: Sequence[WallSegment], snap_tol_m: float) -> _Net:
             b_l += [c1, nb]
             t_l += [t, t]
             cut_l += [True, True]
+    if not a_l:
+        raise InputError(
+            f"thin-walled section: the wall segments ({', '.join(sorted({s.tag for s in segments if s.tag})) or 'untagged'})"
+            f" are all shorter than the snapping tolerance {snap_tol_m} m"
+        )
     return _Net(
         xy=np.asarray(nodes, dtype=float),
         a=np.asarray(a_l, dtype=int),
@@ -599,13 +611,15 @@ def thin_walled_properties(
         free_end_correction: subtract 0.105 t^4 per free end from the St Venant part
             (the (1 - 0.63 t/b) refinement of a single rectangle); off by default so that
             ``J = sum b t^3 / 3`` exactly.
-        snap_tol_m: end points closer than this are one node (m).
+        snap_tol_m: end points closer than this are one node (m); pieces shorter than
+            this vanish.
 
     Returns:
         :class:`ThinWalledProps` (m, m^2, m^4, m^6).
 
     Raises:
-        InputError: no segments, or a segment with no length or thickness.
+        InputError: no segments, a segment with no length or thickness, or nothing left
+            after snapping.
     """
     net = _build_network(segments, snap_tol_m)
     xy, a, b, t = net.xy, net.a, net.b, net.t
@@ -660,7 +674,10 @@ def thin_walled_properties(
             for n in (int(a[e]), int(b[e])):
                 if degree[n] == 1:
                     j_open_terms[e] -= FREE_END_COEFF * t[e] ** 4
-        j_open_terms = np.maximum(j_open_terms, 0.0)
+        # stubby pieces (b/t < 2, outside the refinement's range): not below the exact
+        # value for a square, 0.1406 a b^3 (methods.md s.9 series, b/t = 1)
+        short, long_ = np.minimum(length, t), np.maximum(length, t)
+        j_open_terms = np.maximum(j_open_terms, SQUARE_J_COEFF * long_ * short**3)
     j_open = float(j_open_terms[~in_cell].sum())
 
     if len(centres) == 1:
@@ -712,6 +729,12 @@ def section_props(
     tw = thin_walled_properties(
         segments, torsion_cells=torsion_cells, free_end_correction=free_end_correction, snap_tol_m=snap_tol_m
     )
+    return combine_section(tw, plan)
+
+
+def combine_section(tw: ThinWalledProps, plan: PlanShape | None = None) -> SectionProps:
+    """:class:`~swayscreen.pipeline.stick.SectionProps` from a centre-line result and,
+    optionally, the plan polygon (which then gives area, centroid and bending)."""
     if plan is not None:
         pp = polygon_properties(plan)
         area, centroid = pp.area_m2, pp.centroid_m

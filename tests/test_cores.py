@@ -15,6 +15,7 @@ import random
 from dataclasses import replace
 
 import pytest
+from hypothesis import given, settings, strategies as st
 from shapely.geometry import LineString
 
 from swayscreen.pipeline.core_settings import StiffnessSettings
@@ -304,3 +305,69 @@ def test_systems_that_merge_are_reported():
     assert by["G1"][0].kind == "core"
     assert any("wall-1 and wall-2 from below merge into wall-1" in w for w in warnings)
     assert any("wall-1 changes from wall to core" in w for w in warnings)
+
+
+# ------------------------------------------------------------------------------ bad and odd input
+
+
+def test_walls_with_missing_axis_or_footprint():
+    # axis missing (zero length): taken from the footprint's rectangle; footprint missing:
+    # built from the axis; neither: left out with a warning naming the wall
+    from shapely.geometry import Polygon, box
+
+    no_axis = Wall("A", "A", ((0.0, 0.0), (0.0, 0.0)), 0.0, 0.0, H, 0.0, box(0.0, -0.15, 5.0, 0.15))
+    no_print = Wall("B", "B", ((10.0, 0.0), (15.0, 0.0)), 5.0, 0.3, H, 0.0, Polygon())
+    nothing = Wall("C", "C", ((20.0, 0.0), (20.0, 0.0)), 0.0, 0.0, H, 0.0, Polygon())
+    by, _, warnings = find_systems_by_storey([storey(0, [no_axis, no_print, nothing])], AUTO)
+    found = by["G0"]
+    assert sorted(s.wall_ids for s in found) == [("A",), ("B",)]
+    for s in found:
+        # methods.md s.9: rectangle 5 x 0.3, J = (b t^3/3)(1 - 0.63 t/b)
+        assert s.section.j_m4 == pytest.approx(5 * T**3 / 3 * (1 - 0.63 * T / 5), rel=REL)
+        assert s.section.area_m2 == pytest.approx(1.5, rel=1e-12)
+    assert warnings == ["storey 'Level 0': wall C ('C') has no usable axis, thickness or footprint: left out"]
+
+
+grid_wall = st.tuples(
+    st.integers(0, 4), st.integers(0, 4), st.booleans(), st.integers(1, 4), st.sampled_from([0.2, 0.3, 0.45]),
+    st.one_of(st.none(), st.tuples(st.floats(0.0, 1.0), st.sampled_from([2.1, 3.3, H]))),
+)
+free_wall = st.tuples(
+    st.floats(0.0, 10.0), st.floats(0.0, 10.0), st.floats(0.0, 10.0), st.floats(0.0, 10.0),
+    st.sampled_from([0.2, 0.3, 0.45]),
+)
+
+
+@settings(max_examples=60, deadline=None)
+@given(grid=st.lists(grid_wall, max_size=7), free=st.lists(free_wall, max_size=3),
+       cells=st.sampled_from(["auto", "closed", "open"]))
+def test_random_wall_layouts_give_sane_systems(grid, free, cells):
+    # Property test (no external value): any layout of walls on a 2 m grid (doors included)
+    # plus a few walls at random angles gives systems that share out every wall exactly
+    # once, with finite, positive constants and a shear centre near the walls.
+    walls = []
+    for k, (i, j, along_x, n, t, op) in enumerate(grid):
+        p0 = (2.0 * i, 2.0 * j)
+        p1 = (p0[0] + 2.0 * n, p0[1]) if along_x else (p0[0], p0[1] + 2.0 * n)
+        ops = () if op is None else (WallOpening(op[0] * 2 * n, op[0] * 2 * n + 0.9, 0.0, op[1], f"o{k}"),)
+        walls.append(wall(f"g{k}", p0, p1, t, openings=ops))
+    for k, (x0, y0, x1, y1, t) in enumerate(free):
+        if math.dist((x0, y0), (x1, y1)) > 0.05:
+            walls.append(wall(f"f{k}", (x0, y0), (x1, y1), t))
+    found = find_systems(walls, replace(AUTO, core_cells=cells))
+    assert sorted(g for s in found for g in s.wall_ids) == sorted(w.global_id for w in walls)
+    for s in found:
+        sec = s.section
+        values = (sec.area_m2, sec.ixx_m4, sec.iyy_m4, sec.ixy_m4, sec.j_m4, sec.shear_area_x_m2,
+                  sec.shear_area_y_m2, *sec.centroid_m, *sec.shear_centre_m)
+        assert all(math.isfinite(v) for v in values)
+        assert sec.area_m2 > 0 and sec.ixx_m4 > 0 and sec.iyy_m4 > 0 and sec.j_m4 > 0
+        assert sec.ixx_m4 * sec.iyy_m4 >= sec.ixy_m4**2 * (1 - 1e-9)
+        assert s.kind == ("core" if len(s.wall_ids) > 1 else "wall")
+        assert s.closed == sec.closed
+        if cells == "open":
+            assert not s.closed
+        minx, miny, maxx, maxy = s.plan.bounds
+        size = max(maxx - minx, maxy - miny)
+        x, y = sec.shear_centre_m
+        assert minx - 3 * size <= x <= maxx + 3 * size and miny - 3 * size <= y <= maxy + 3 * size
