@@ -790,6 +790,7 @@ def design_tsd(
     water_density_kg_m3: float = WATER_DENSITY_KG_M3,
     plate_area_m2: float | None = None,
     gap_m: float = 0.5,
+    n_tanks: int | None = None,
     g: float = G_M_S2,
 ) -> TsdDesign:
     """Size rectangular sloshing tanks acting as a TMD of effective mass ``mass_ratio * M_1``.
@@ -810,6 +811,8 @@ def design_tsd(
         water_density_kg_m3: 1000 fresh water.
         plate_area_m2: gross plate area for the averaged load (default: ``available.area``).
         gap_m: clear gap between packed tanks (walls, access), m.
+        n_tanks: use this many tanks when it is more than the mass needs (e.g. square tanks
+            shared by two directions).
     """
     if not (structure_frequency_hz > 0 and modal_mass_kg > 0 and width_m > 0 and water_density_kg_m3 > 0):
         raise ValueError("need positive frequency, modal mass, tank width and water density")
@@ -823,7 +826,7 @@ def design_tsd(
     m_w = water_density_kg_m3 * length * width_m * depth
     m_1 = frac * m_w
     need = mass_ratio * modal_mass_kg
-    n = max(1, math.ceil(need / m_1 - 1e-9))
+    n = max(1, math.ceil(need / m_1 - 1e-9), n_tanks or 0)
     footprint = n * length * width_m
     avail_area = float(available.area)
     packed = pack_rectangles(available, length, width_m, along=direction, gap_m=gap_m)
@@ -943,8 +946,10 @@ def design_tsd_two_way(
         dy = design_tsd(f_mean / warburton_tuning(mass_ratio_y).frequency_ratio, modal_mass_y_kg, mass_ratio_y,
                         available, direction="y", width_m=side, **kw)
         n = max(dx.n_tanks, dy.n_tanks)
-        dx = _with_count(dx, n, modal_mass_x_kg, g, water_density_kg_m3, plate_area_m2)
-        dy = _with_count(dy, n, modal_mass_y_kg, g, water_density_kg_m3, plate_area_m2)
+        dx = design_tsd(f_mean / warburton_tuning(mass_ratio_x).frequency_ratio, modal_mass_x_kg, mass_ratio_x,
+                        available, direction="x", width_m=side, n_tanks=n, **kw)
+        dy = design_tsd(f_mean / warburton_tuning(mass_ratio_y).frequency_ratio, modal_mass_y_kg, mass_ratio_y,
+                        available, direction="y", width_m=side, n_tanks=n, **kw)
         return TwoWayTsd(
             layout="square",
             x=dx,
@@ -977,27 +982,6 @@ def design_tsd_two_way(
             f"tuned frequencies {tx:.4f} Hz (x) and {ty:.4f} Hz (y) differ by more than "
             f"{100 * square_tolerance:g} %: one set of tanks per direction"
         ),
-    )
-
-
-def _with_count(
-    d: TsdDesign, n: int, modal_mass_kg: float, g: float, rho: float, plate_area_m2: float | None
-) -> TsdDesign:
-    """The same tank design with ``n`` tanks (quantities recomputed)."""
-    from dataclasses import replace
-
-    footprint = n * d.length_m * d.width_m
-    plate_area = float(plate_area_m2) if plate_area_m2 else d.available_area_m2
-    return replace(
-        d,
-        n_tanks=n,
-        effective_mass_kg=n * d.effective_mass_per_tank_kg,
-        mass_ratio=n * d.effective_mass_per_tank_kg / modal_mass_kg,
-        water_mass_t=n * d.water_mass_per_tank_kg / 1000.0,
-        footprint_m2=footprint,
-        fits_area=footprint <= d.usable_fraction * d.available_area_m2,
-        fits_packing=d.packed_count >= n,
-        load_over_plate_kpa=n * d.water_mass_per_tank_kg * g / plate_area / 1000.0,
     )
 
 

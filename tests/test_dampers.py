@@ -428,6 +428,7 @@ def test_two_way_tanks_layouts():
     assert sq.layout == "square"
     assert sq.x.length_m == pytest.approx(sq.x.width_m)
     assert sq.x.n_tanks == sq.y.n_tanks
+    assert len(sq.x.tanks) == min(sq.x.n_tanks, sq.x.packed_count)
     assert min(sq.x.effective_mass_kg, sq.y.effective_mass_kg) >= 0.01 * 4e7
     assert sq.water_mass_t == pytest.approx(sq.x.water_mass_t)
     two = d.design_tsd_two_way(0.2, 4e7, 0.01, 0.25, 4e7, 0.01, avail)

@@ -130,6 +130,20 @@ def test_damped_case_round_trip(flagged):
             assert again.peak_mg == pytest.approx(c.peak_mg, rel=1e-9)
 
 
+def test_frequency_model_round_trip(flagged):
+    # recomputing a case at its own frequency reproduces the wind plugins' value and damping,
+    # for EN and for both NBCC responses
+    _, res, _ = flagged
+    seen = set()
+    for result in (res["accel_en"], res["accel_nbcc"]):
+        for c in result.cases:
+            peak, zeta = damping.case_peak_at_frequency(c, c.frequency_hz)
+            assert peak == pytest.approx(c.peak_mg, rel=1e-9)
+            assert zeta == pytest.approx(c.damping_ratio, rel=1e-9)
+            seen.add((c.method, c.response))
+    assert len(seen) == 3
+
+
 def test_closing_the_loop_passes(flagged):
     _, res, advice = flagged
     assert {lp.damper_type for lp in advice.loops} == {"tmd", "tsd", "tlcd"}
