@@ -159,6 +159,14 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
     return segs, report
 
 
+def _restrains_twist(segs: Sequence[Segment]) -> bool:
+    """True when a storey's segments give it torsional stiffness: a frame with k_twist > 0, a
+    cantilever with GJ > 0, or systems at two or more distinct plan points."""
+    if any(s.k_twist_nm_rad > 0 or s.gj_nm2 > 0 for s in segs):
+        return True
+    return len({(round(s.centre_m[0], 6), round(s.centre_m[1], 6)) for s in segs}) > 1
+
+
 def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: float = 0.0) -> DerivedModel:
     """Derive the stick model of ``building`` (see the module doc).
 
@@ -238,6 +246,12 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
         below = "below" if k < j else "above"
         warnings.append(f"storey under floor '{f.name}' has no lateral system of its own: the walls and columns "
                         f"of the storey {below} (under '{donor.name}') are assumed to continue")
+    unstable = [layout.floors[j].name for j, segs in enumerate(per_level) if not _restrains_twist(segs)]
+    if unstable:
+        missing.append("lateral system: the storey under floor(s) " + ", ".join(f"'{n}'" for n in unstable)
+                       + " cannot resist twist (a single column or systems with no torsional stiffness at one "
+                       "point), so no stick model")
+        return done(None, restraint)
     for segs in per_level:
         segments.extend(segs)
     centres = []
