@@ -25,7 +25,9 @@ storey list from the elements' actual elevations:
    a wall standing on the slab soffit or a short bulkhead under the next floor stays in
    its storey. Where this differs from the exported containment, the element moves and
    a warning reports it (aggregated per storey pair). ``storey_id`` on the element keeps
-   the exported containment.
+   the exported containment. A floor plate that duplicates another (plan overlap over
+   half the smaller, depth overlap over half the thinner: two copies of one slab) is
+   left out with a warning, so its mass is not counted twice.
 5. **Heights**: each storey reaches the next higher elevation. The top storey reaches the
    highest top of its elements (Storey.height_m contract); with nothing rising above its
    elevation it repeats the height of the storey below.
@@ -108,6 +110,21 @@ def floor_plate(slabs, min_thickness_m: float = 0.0) -> tuple[PlanShape, float, 
     a = sum(s.area_m2 for s in plates)
     t = sum(s.area_m2 * s.thickness_m for s in plates) / a if a > 0 else 0.0
     return union, float(union.area), float(t)
+
+
+def _duplicates(a: Placed, b: Placed) -> bool:
+    """Two plates in the same space: plan overlap over half of the smaller one, and depth
+    overlap over half of the thinner one."""
+    sa, sb = a.element, b.element
+    dz = min(a.zmax, b.zmax) - max(a.zmin, b.zmin)
+    if dz <= 0.5 * min(sa.thickness_m, sb.thickness_m):
+        return False
+    ax0, ay0, ax1, ay1 = sa.footprint.bounds
+    bx0, by0, bx1, by1 = sb.footprint.bounds
+    if ax1 <= bx0 or bx1 <= ax0 or ay1 <= by0 or by1 <= ay0:
+        return False
+    small = min(sa.area_m2, sb.area_m2)
+    return small > 0 and sa.footprint.intersection(sb.footprint).area > 0.5 * small
 
 
 def ground_index(names: list[str], elevations: list[float], levels: LevelSettings) -> int:
@@ -296,6 +313,32 @@ def build_storeys(sources: list[SourceStorey], slabs: list[Placed], walls: list[
                         f"({_ids([p.element.global_id for p in items])})")
     for kind, n in orphans.items():
         warnings.append(f"{where}{_plural(n, kind[:-1])} not contained in any storey: placed by elevation")
+
+    # 4b. duplicates: plates occupying the same space (same place in plan, overlapping depth)
+    dupes: list[str] = []
+    for L in lv:
+        plates_here = [p for p in L.extents if isinstance(p.element, Slab)
+                       and is_floor_plate(p.element, levels.min_slab_thickness_m)]
+        if len(plates_here) < 2:
+            continue
+        # keep the larger piece; of equal ones, the one the export put in this storey
+        plates_here.sort(key=lambda p: (-p.element.area_m2, p.element.storey_id != L.source_id))
+        drop: set[int] = set()
+        for i, a in enumerate(plates_here):
+            if id(a) in drop:
+                continue
+            for b in plates_here[i + 1:]:
+                if id(b) in drop or not _duplicates(a, b):
+                    continue
+                drop.add(id(b))
+                dupes.append(f"{b.element.global_id} (of {a.element.global_id} at {b.element.top_elevation_m:.2f} m)")
+        if drop:
+            L.extents = [p for p in L.extents if id(p) not in drop]
+            keep_ids = {id(p.element) for p in L.extents}
+            L.slabs = [e for e in L.slabs if id(e) in keep_ids]
+    if dupes:
+        warnings.append(f"{where}{_plural(len(dupes), 'slab')} duplicating another slab (same plan and depth) "
+                        f"left out: {_ids(dupes)}")
 
     # 5. heights
     heights = [0.0] * len(lv)
