@@ -148,8 +148,10 @@ def _footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon |
         p0, p1, t = line
         return LineString([p0, p1]).buffer(t / 2, cap_style="flat", join_style="mitre")
     if not fp.is_valid:
-        fp = shapely.make_valid(fp)
-        polys = [g for g in shapely.get_parts(fp) if isinstance(g, Polygon)]
+        polys = [g for g in shapely.get_parts(shapely.make_valid(fp)) if isinstance(g, Polygon) and g.area > 0]
+        if not polys:
+            p0, p1, t = line
+            return LineString([p0, p1]).buffer(t / 2, cap_style="flat", join_style="mitre")
         fp = polys[0] if len(polys) == 1 else MultiPolygon(polys)
     return fp
 
@@ -162,19 +164,14 @@ def _as_plan(geom: object) -> PlanShape:
     return polys[0] if len(polys) == 1 else MultiPolygon(polys)
 
 
-def lateral_walls(
-    walls: Sequence[Wall],
-    *,
-    load_bearing_only: bool = False,
-    partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
-) -> tuple[list[Wall], list[str]]:
-    """The walls that belong to the lateral system (rules 1 in the module docstring).
+def _partition_note(count: int, limit_m: float) -> str:
+    return (f"{count} wall(s) thinner than {limit_m:.2f} m with no LoadBearing flag "
+            "taken as partitions (not in the lateral system)")
 
-    Returns:
-        (walls kept in input order without duplicate GlobalIds, warnings). Walls with no
-        usable axis or footprint are dropped with a warning; partitions and
-        non-load-bearing walls are dropped silently except for one summary line.
-    """
+
+def _lateral(
+    walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float
+) -> tuple[list[Wall], list[str], int]:
     kept: list[Wall] = []
     seen: set[str] = set()
     warnings: list[str] = []
@@ -195,11 +192,25 @@ def lateral_walls(
             n_partition += 1
             continue
         kept.append(w)
+    return kept, warnings, n_partition
+
+
+def lateral_walls(
+    walls: Sequence[Wall],
+    *,
+    load_bearing_only: bool = False,
+    partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
+) -> tuple[list[Wall], list[str]]:
+    """The walls that belong to the lateral system (rule 1 in the module docstring).
+
+    Returns:
+        (walls kept, in input order, without repeated GlobalIds; warnings). Walls with no
+        usable axis or footprint are dropped with a warning each; partitions and
+        non-load-bearing walls are dropped, partitions counted in one summary line.
+    """
+    kept, warnings, n_partition = _lateral(walls, load_bearing_only, partition_max_thickness_m)
     if n_partition:
-        warnings.append(
-            f"{n_partition} wall(s) thinner than {partition_max_thickness_m:.2f} m with no LoadBearing flag "
-            "taken as partitions (not in the lateral system)"
-        )
+        warnings.append(_partition_note(n_partition, partition_max_thickness_m))
     return kept, warnings
 
 
@@ -375,12 +386,10 @@ def _find_systems(
     load_bearing_only: bool = False,
     partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
     tol_m: float = JOIN_TOL_M,
-) -> tuple[list[SystemSection], list[str]]:
-    kept, warnings = lateral_walls(
-        walls, load_bearing_only=load_bearing_only, partition_max_thickness_m=partition_max_thickness_m
-    )
+) -> tuple[list[SystemSection], list[str], int]:
+    kept, warnings, n_partition = _lateral(walls, load_bearing_only, partition_max_thickness_m)
     if not kept:
-        return [], warnings
+        return [], warnings, n_partition
     prints = [_footprint(w, _wall_line(w)) for w in kept]  # type: ignore[arg-type]
     graph = nx.Graph()
     graph.add_nodes_from(range(len(kept)))
@@ -402,7 +411,7 @@ def _find_systems(
     for kind, ids, section, closed, plan, note in found:
         counters[kind] += 1
         systems.append(SystemSection(f"{kind}-{counters[kind]}", kind, ids, section, closed, plan, note))
-    return systems, warnings
+    return systems, warnings, n_partition
 
 
 def find_systems(
@@ -491,10 +500,15 @@ def find_systems_by_storey(
     first_seen: list[str] = []
     wall_index: dict[int, dict[str, Wall]] = {}
     per_storey_raw: list[tuple[list[SystemSection], list[str], list[Wall]]] = []
+    partitions: list[int] = []
     for st in order:
         walls = _storey_walls(st, owned, include_spanning_walls)
-        systems, warn = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
+        systems, warn, n_partition = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
         per_storey_raw.append((systems, warn, walls))
+        partitions.append(n_partition)
+    if sum(partitions):
+        n_storeys = sum(1 for n in partitions if n)
+        warnings.append(f"{_partition_note(sum(partitions), PARTITION_MAX_THICKNESS_M)} on {n_storeys} storey(s)")
     top_with_systems = max((k for k, r in enumerate(per_storey_raw) if r[0]), default=-1)
 
     prev: list[SystemSection] = []

@@ -371,3 +371,14 @@ def test_random_wall_layouts_give_sane_systems(grid, free, cells):
         size = max(maxx - minx, maxy - miny)
         x, y = sec.shear_centre_m
         assert minx - 3 * size <= x <= maxx + 3 * size and miny - 3 * size <= y <= maxy + 3 * size
+
+
+def test_partitions_are_summarised_once_over_the_height():
+    storeys = [storey(k, box_walls(str(k), z=k * H) + [wall(f"P{k}", (20.0, 0.0), (24.0, 0.0), t=0.1, z=k * H)])
+               for k in range(3)]
+    by, _, warnings = find_systems_by_storey(storeys, AUTO)
+    assert all([s.system_id for s in systems] == ["core-1"] for systems in by.values())
+    assert warnings == [
+        "3 wall(s) thinner than 0.15 m with no LoadBearing flag taken as partitions (not in the lateral system)"
+        " on 3 storey(s)"
+    ]
