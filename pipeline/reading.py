@@ -83,6 +83,7 @@ _USAGE_RULES = [
     ("plant", re.compile(r"\bplant\b|mechanical|machine room|technik|\bmep\b|\bhvac\b")),
     ("retail", re.compile(r"retail|\bshops?\b|laden")),
 ]
+_ATTR_COUNT = re.compile(r"Expected (\d+) attribute values, found (\d+) for instance #(\d+)")
 _LAYER_TOL_REL = 0.05
 _LAYER_TOL_ABS = 0.005
 
@@ -121,11 +122,17 @@ def open_model(path: str | Path):
 
     p = Path(path)
     _check_file(p)
+    ifcopenshell.get_log()  # drain messages of earlier files
     try:
         model = ifcopenshell.open(str(p))
     except Exception as exc:  # noqa: BLE001 - ifcopenshell.Error, RuntimeError, SchemaError...
         msg = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(f"{p}: not readable as IFC ({msg})") from None
+    log = ifcopenshell.get_log()
+    bad = _ATTR_COUNT.search(log)
+    if bad:
+        raise InputError(f"{p}: corrupt IFC file (instance #{bad.group(3)} has {bad.group(2)} of its "
+                         f"{bad.group(1)} attributes)")
     schema = str(getattr(model, "schema_identifier", None) or model.schema).upper()
     if not any(schema == s or schema.startswith(s + "_") for s in SUPPORTED_SCHEMAS):
         raise InputError(f"{p}: schema {schema} is not supported (IFC2X3, IFC4, IFC4X3 are)")
