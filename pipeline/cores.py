@@ -42,9 +42,12 @@ one seen further down, if it reappears), so ``core-1`` is the same core on every
 Ids are numbered by first appearance, the largest plan area first: ``core-<n>`` for
 cores, ``wall-<n>`` for separate walls; an id keeps its name if the system changes kind.
 A wall taller than its storey (its body spans the mid-height of another storey) also
-counts on that storey. Warnings report systems that stop, appear, merge or split, walls
-below that are not continued above (more than :data:`STOP_MIN_LENGTH_M` or 5 % of their
-length uncovered), a core that changes kind, and cells that open or close.
+counts on that storey. Warnings report systems that stop, appear, reappear, merge or
+split, walls below that are not continued above (more than :data:`STOP_MIN_LENGTH_M` and
+5 % of their length uncovered), a system that changes kind, cells that open or close,
+storeys whose walls all drop out, walls without usable geometry, and (one line each over
+the height) how many walls were left out as partitions or as flagged non-load-bearing.
+Systems that end at the top of the building (no storey above has any) are not reported.
 """
 from __future__ import annotations
 
@@ -171,16 +174,18 @@ def _partition_note(count: int, limit_m: float) -> str:
 
 def _lateral(
     walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float
-) -> tuple[list[Wall], list[str], int]:
+) -> tuple[list[Wall], list[str], int, int]:
+    """Kept walls, warnings, number of partitions, number flagged not load-bearing."""
     kept: list[Wall] = []
     seen: set[str] = set()
     warnings: list[str] = []
-    n_partition = 0
+    n_partition = n_flagged = 0
     for w in walls:
         if w.global_id in seen:
             continue
         seen.add(w.global_id)
         if w.load_bearing is False:
+            n_flagged += 1
             continue
         if load_bearing_only and w.load_bearing is not True:
             continue
@@ -192,7 +197,7 @@ def _lateral(
             n_partition += 1
             continue
         kept.append(w)
-    return kept, warnings, n_partition
+    return kept, warnings, n_partition, n_flagged
 
 
 def lateral_walls(
@@ -208,7 +213,7 @@ def lateral_walls(
         usable axis or footprint are dropped with a warning each; partitions and
         non-load-bearing walls are dropped, partitions counted in one summary line.
     """
-    kept, warnings, n_partition = _lateral(walls, load_bearing_only, partition_max_thickness_m)
+    kept, warnings, n_partition, _ = _lateral(walls, load_bearing_only, partition_max_thickness_m)
     if n_partition:
         warnings.append(_partition_note(n_partition, partition_max_thickness_m))
     return kept, warnings
@@ -386,10 +391,10 @@ def _find_systems(
     load_bearing_only: bool = False,
     partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
     tol_m: float = JOIN_TOL_M,
-) -> tuple[list[SystemSection], list[str], int]:
-    kept, warnings, n_partition = _lateral(walls, load_bearing_only, partition_max_thickness_m)
+) -> tuple[list[SystemSection], list[str], tuple[int, int]]:
+    kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m)
     if not kept:
-        return [], warnings, n_partition
+        return [], warnings, (n_partition, n_flagged)
     prints = [_footprint(w, _wall_line(w)) for w in kept]  # type: ignore[arg-type]
     graph = nx.Graph()
     graph.add_nodes_from(range(len(kept)))
@@ -411,7 +416,7 @@ def _find_systems(
     for kind, ids, section, closed, plan, note in found:
         counters[kind] += 1
         systems.append(SystemSection(f"{kind}-{counters[kind]}", kind, ids, section, closed, plan, note))
-    return systems, warnings, n_partition
+    return systems, warnings, (n_partition, n_flagged)
 
 
 def find_systems(
@@ -501,14 +506,21 @@ def find_systems_by_storey(
     wall_index: dict[int, dict[str, Wall]] = {}
     per_storey_raw: list[tuple[list[SystemSection], list[str], list[Wall]]] = []
     partitions: list[int] = []
+    flagged: list[int] = []
     for st in order:
         walls = _storey_walls(st, owned, include_spanning_walls)
-        systems, warn, n_partition = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
+        systems, warn, (n_partition, n_flagged) = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
+        if walls and not systems:
+            warn.append(f"none of its {len(walls)} wall(s) is in the lateral system (non-load-bearing, partitions or unusable)")
         per_storey_raw.append((systems, warn, walls))
         partitions.append(n_partition)
+        flagged.append(n_flagged)
     if sum(partitions):
         n_storeys = sum(1 for n in partitions if n)
         warnings.append(f"{_partition_note(sum(partitions), PARTITION_MAX_THICKNESS_M)} on {n_storeys} storey(s)")
+    if sum(flagged):
+        n_storeys = sum(1 for n in flagged if n)
+        warnings.append(f"{sum(flagged)} wall(s) flagged LoadBearing = false on {n_storeys} storey(s) left out of the lateral system")
     top_with_systems = max((k for k, r in enumerate(per_storey_raw) if r[0]), default=-1)
 
     prev: list[SystemSection] = []

@@ -382,3 +382,13 @@ def test_partitions_are_summarised_once_over_the_height():
         "3 wall(s) thinner than 0.15 m with no LoadBearing flag taken as partitions (not in the lateral system)"
         " on 3 storey(s)"
     ]
+
+
+def test_storeys_without_lateral_walls_are_reported():
+    flagged = [replace(w, load_bearing=False) for w in box_walls("1", z=H)]
+    by, _, warnings = find_systems_by_storey([storey(0, box_walls("0")), storey(1, flagged)], AUTO)
+    assert by["G1"] == []
+    assert warnings == [
+        "4 wall(s) flagged LoadBearing = false on 1 storey(s) left out of the lateral system",
+        "storey 'Level 1': none of its 4 wall(s) is in the lateral system (non-load-bearing, partitions or unusable)",
+    ]
