@@ -56,6 +56,7 @@ __all__ = [
     "level_plate",
     "FloorGeometry",
     "floor_geometry",
+    "UNOCCUPIED_USAGES",
     "top_occupied_index",
     "point_displacement",
     "directional_shape",
@@ -140,7 +141,7 @@ class WindSettings:
         source="EN 1991-1-4 7.6 (c_f = c_f,0 psi_r psi_lambda, about 1.3-1.5 for square towers after end effect; common practice)",
         doc="along-wind force coefficient c_f of the building section")
     peak_factor_duration_s: float = setting(
-        600.0, unit="s", minimum=60, maximum=7200, source="EN 1991-1-4 B.2(3) (T = 600 s averaging time of the mean wind)",
+        600.0, unit="s", minimum=60, maximum=7200, source="EN 1991-1-4 (B.4) (T = 600 s, the averaging time of the mean wind)",
         doc="averaging time T in the peak factor k_p")
     serviceability_return_period_yr: float = setting(
         10.0, unit="yr", minimum=0.5, maximum=10000,
@@ -287,12 +288,32 @@ def level_plate(level: Level) -> Polygon | MultiPolygon:
     return Polygon([(cx - h, cy - h), (cx + h, cy - h), (cx + h, cy + h), (cx - h, cy + h)])
 
 
+UNOCCUPIED_USAGES = ("plant", "roof")
+
+
 def top_occupied_index(stick: StickModel) -> int:
-    """Index of the highest level whose usage is not "plant" (a level with no usage counts as occupied)."""
-    for i in range(stick.n_levels - 1, -1, -1):
-        if (stick.levels[i].usage or "").lower() != "plant":
-            return i
-    return stick.n_levels - 1
+    """Index of the top occupied floor (the floor whose accelerations occupants feel).
+
+    Rule (documented choice): when some levels carry an occupied usage (anything but
+    "plant" or "roof"), the highest such level; levels without a usage above it are taken
+    as roof or plant. Without usage information: the highest level that is not "plant" or
+    "roof" and, for the top level only, whose name does not contain "roof" (the roof slab is
+    the ceiling of the top storey, whose occupants stand on the floor below). Falls back to
+    the top level.
+    """
+    levels = stick.levels
+    known = [i for i, lv in enumerate(levels) if lv.usage and lv.usage.lower() not in UNOCCUPIED_USAGES]
+    if known:
+        return max(known)
+    n = len(levels)
+    for i in range(n - 1, -1, -1):
+        lv = levels[i]
+        if (lv.usage or "").lower() in UNOCCUPIED_USAGES:
+            continue
+        if i == n - 1 and n > 1 and "roof" in lv.name.lower():
+            continue
+        return i
+    return n - 1
 
 
 @dataclass(frozen=True)
@@ -447,7 +468,7 @@ class AccelerationCase:
         damping_ratio: total damping ratio used by the method (EN: structural + aerodynamic;
             NBCC: structural), fraction of critical.
         structural_damping_ratio: the structural part (fraction of critical).
-        rms_mg: RMS acceleration at the top occupied floor (mg); 0 where the method gives peaks only.
+        rms_mg: RMS acceleration at the top occupied floor (mg) (NBCC: the peak over its peak factor g_p).
         peak_mg: peak acceleration at the top occupied floor (mg), at the plate centroid,
             along ``axis_xy``.
         floor_peak_mg: peak at every floor, lowest first (mg).
@@ -483,6 +504,12 @@ class AccelerationCase:
     def peak_m_s2(self) -> float:
         """Peak at the top occupied floor in m/s^2."""
         return self.peak_mg * MG
+
+    @property
+    def floor_rms_mg(self) -> tuple[float, ...]:
+        """RMS acceleration at every floor, lowest first (mg): the floor peaks over the peak factor."""
+        ratio = self.rms_mg / self.peak_mg if self.peak_mg > 0 else 0.0
+        return tuple(v * ratio for v in self.floor_peak_mg)
 
 
 @dataclass(frozen=True)

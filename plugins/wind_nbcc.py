@@ -343,7 +343,8 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
                 valid = not case_notes
                 cases.append(AccelerationCase(
                     METHOD, float(rp), direction, response, (float(vec[0]), float(vec[1])), int(mode.index), n,
-                    beta, beta, 0.0, peak * top_phi / MG, tuple(float(abs(p) * peak / MG) for p in phi),
+                    beta, beta, peak * top_phi / MG / res.g_p, peak * top_phi / MG,
+                    tuple(float(abs(p) * peak / MG) for p in phi),
                     stick.levels[top].name, top, valid, "; ".join(case_notes + info), details))
     return AccelerationResult(METHOD, tuple(cases), ())
 

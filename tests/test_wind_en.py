@@ -36,6 +36,7 @@ from swayscreen.plugins.wind_common import (  # noqa: E402
     select_mode,
     structural_damping_ratio,
     terrain_from_settings,
+    top_occupied_index,
     wind_axes,
 )
 from swayscreen.plugins.wind_en import (  # noqa: E402
@@ -250,6 +251,7 @@ def test_own_square_tower_through_modal_path(r_yr: float, row: tuple) -> None:
     assert case.valid
     # every floor scales with the linear mode shape
     assert case.floor_peak_mg[24] == pytest.approx(case.peak_mg * 25 / 50, rel=1e-9)
+    assert case.floor_rms_mg[24] == pytest.approx(case.rms_mg * 25 / 50, rel=1e-9)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -397,6 +399,21 @@ def test_top_occupied_floor_skips_plant() -> None:
     assert case.top_floor == "L29"
     assert case.peak_mg == pytest.approx(case.floor_peak_mg[28], rel=1e-12)
     assert case.peak_mg == pytest.approx(case.floor_peak_mg[29] * 29 / 30, rel=1e-9)
+
+
+def test_top_occupied_floor_rule() -> None:
+    # a roof level without usage above occupied storeys is not occupied
+    roofed = make_tower(n=10, usage="residential")
+    roofed = dataclasses.replace(roofed, levels=roofed.levels[:-1] + (
+        dataclasses.replace(roofed.levels[-1], name="Roof", usage=None),))
+    assert top_occupied_index(roofed) == 8
+    # without any usage: a top level named like a roof is skipped, otherwise the top level
+    bare = make_tower(n=10)
+    assert top_occupied_index(bare) == 9
+    bare_roof = dataclasses.replace(bare, levels=bare.levels[:-1] + (
+        dataclasses.replace(bare.levels[-1], name="ROOF SLAB"),))
+    assert top_occupied_index(bare_roof) == 8
+    assert top_occupied_index(make_tower(n=3, usage="plant")) == 2  # nothing occupied: the top
 
 
 def test_height_above_200_m_is_flagged_not_hidden() -> None:

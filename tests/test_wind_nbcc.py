@@ -120,6 +120,8 @@ def test_tower_cases_use_along_and_across_modes() -> None:
     assert d["V_H_m_s"] == pytest.approx(v10 * math.sqrt(nbcc_exposure_factor(150.0, "rough")), rel=1e-12)
     ref = nbcc_across_wind(0.35, 40.0, 40.0, d["V_H_m_s"], 200.0, 0.10 / (2 * math.pi))
     assert north_across.peak_mg == pytest.approx(ref.peak_m_s2 / MG, rel=1e-12)
+    assert north_across.rms_mg == pytest.approx(north_across.peak_mg / ref.g_p, rel=1e-12)
+    assert north_across.floor_rms_mg[-1] == pytest.approx(north_across.rms_mg, rel=1e-12)
     assert north_across.valid and north_along.valid
 
 
