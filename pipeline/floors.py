@@ -27,6 +27,7 @@ The rule (a storey's elevation is its floor):
 """
 from __future__ import annotations
 
+import bisect
 from dataclasses import dataclass
 
 from .core_settings import LevelSettings
@@ -119,7 +120,9 @@ def vertical_shares(nodes: tuple[float, ...] | list[float], z0: float, z1: float
     length = z1 - z0
     if n <= 0 or length <= 0.0:
         return out
-    for k in range(n):
+    first = max(bisect.bisect_right(nodes, z0) - 1, 0)
+    last = min(bisect.bisect_left(nodes, z1), n)
+    for k in range(first, last):
         lo, hi = nodes[k], nodes[k + 1]
         c, d = max(z0, lo), min(z1, hi)
         if d <= c:

@@ -51,7 +51,7 @@ from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_shares
 from .materials import MaterialBook
-from .plan_moments import MassMoments, polygons_of
+from .plan_moments import MassMoments, area_moments, polygons_of
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -150,9 +150,10 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             skipped += 1
             continue
         m = w.footprint.area * w.height_m * mat.density_kg_m3
+        mom = area_moments(w.footprint, ref)
         for i, f in enumerate(vertical_shares(nodes, w.base_elevation_m, w.top_elevation_m)):
             if f:
-                walls[i].add_area(m * f, w.footprint)
+                walls[i].add_moments(m * f, mom)
         for op in w.openings:
             hole = opening_footprint(w, op.start_m, op.end_m)
             sill, head = max(0.0, op.sill_m), min(w.height_m, op.head_m)
@@ -169,9 +170,10 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             skipped += 1
             continue
         m = c.section.area * c.height_m * mat.density_kg_m3
+        mom = area_moments(c.section, ref)
         for i, f in enumerate(vertical_shares(nodes, c.base_elevation_m, c.top_elevation_m)):
             if f:
-                cols[i].add_area(m * f, c.section)
+                cols[i].add_moments(m * f, mom)
     for sl in layout.loose_slabs:
         mat = book.get(sl.material, "slabs")
         if sl.footprint.is_empty or sl.area_m2 <= 0:

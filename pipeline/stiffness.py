@@ -55,7 +55,8 @@ from dataclasses import dataclass
 from typing import Protocol
 
 import numpy as np
-from shapely.geometry import LineString, Point
+import shapely
+from shapely.geometry import Point
 from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
 
@@ -227,27 +228,33 @@ class RestraintReport:
                 f"y {self.a_y_mean:.2f} [{self.a_y_min:.2f}-{self.a_y_max:.2f}]")
 
 
-def _ray_distance(walls: BaseGeometry | None, x: float, y: float, ux: float, uy: float) -> float | None:
-    if walls is None or walls.is_empty:
-        return None
-    ray = LineString([(x, y), (x + ux * MAX_SLAB_SPAN_M, y + uy * MAX_SLAB_SPAN_M)])
-    hit = ray.intersection(walls)
-    if hit.is_empty:
-        return None
-    d = float(Point(x, y).distance(hit))
-    return d if d > 1e-6 else None
+def _wall_distances(pts: np.ndarray, walls: BaseGeometry | None) -> np.ndarray:
+    """Distance from each point to the first wall met along -x, +x, -y, +y (n x 4; nan: none within reach)."""
+    n = len(pts)
+    out = np.full((n, 4), np.nan)
+    if walls is None or walls.is_empty or n == 0:
+        return out
+    dirs = np.array([[-1.0, 0.0], [1.0, 0.0], [0.0, -1.0], [0.0, 1.0]])
+    starts = np.repeat(pts, 4, axis=0)
+    ends = starts + np.tile(dirs, (n, 1)) * MAX_SLAB_SPAN_M
+    rays = shapely.linestrings(np.stack([starts, ends], axis=1))
+    hits = shapely.intersection(rays, walls)
+    with np.errstate(invalid="ignore"):
+        d = shapely.distance(shapely.points(starts), hits)
+    d = np.where(shapely.is_empty(hits) | ~(d > 1e-6), np.nan, d)
+    return d.reshape(n, 4)
 
 
-def _supports(pts: np.ndarray, i: int, walls: BaseGeometry | None, axis: int) -> tuple[float | None, float | None]:
+def _supports(pts: np.ndarray, i: int, wall_d: np.ndarray, axis: int) -> tuple[float | None, float | None]:
     """Distances from column i to the nearest support in -axis and +axis directions (None: none)."""
     d = pts - pts[i]
     par, perp = d[:, axis], d[:, 1 - axis]
     out: list[float | None] = []
-    for sign in (-1.0, 1.0):
+    for k, sign in enumerate((-1.0, 1.0)):
         sel = (sign * par > 1e-6) & (np.abs(perp) <= _CONE * np.abs(par)) & (np.abs(par) <= MAX_SLAB_SPAN_M)
         col = float(np.min(np.abs(par[sel]))) if np.any(sel) else None
-        u = (sign, 0.0) if axis == 0 else (0.0, sign)
-        wall = _ray_distance(walls, float(pts[i, 0]), float(pts[i, 1]), *u)
+        w = wall_d[i, 2 * axis + k]
+        wall = None if math.isnan(w) else float(w)
         cands = [v for v in (col, wall) if v is not None]
         out.append(min(cands) if cands else None)
     return out[0], out[1]
@@ -289,7 +296,9 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
     notes: list[str] = []
     cols = list(columns)
     if walls is not None and not walls.is_empty:
-        inside = [c for c in cols if walls.contains(c.section.centroid)]
+        cxy = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols]).reshape(-1, 2)
+        mask = shapely.contains_xy(walls, cxy[:, 0], cxy[:, 1]) if len(cols) else np.zeros(0, bool)
+        inside = [c for c, m in zip(cols, mask) if m]
         if inside:
             notes.append(f"{storey}: {len(inside)} column(s) inside walls count as part of the wall")
             cols = [c for c in cols if c not in inside]
@@ -308,8 +317,9 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
     # Spans and panel widths per column and direction (only needed for Muto).
     spans: list[list[tuple[float | None, float | None]]] = []
     if set_a is None and have_slab:
+        wall_d = _wall_distances(pts, walls)
         for i in range(len(cols)):
-            spans.append([_supports(pts, i, walls, 0), _supports(pts, i, walls, 1)])
+            spans.append([_supports(pts, i, wall_d, 0), _supports(pts, i, wall_d, 1)])
         found = [v for s in spans for pair in s for v in pair if v is not None]
         field_area = max((top.area_m2 if top else 0.0), (bottom.area_m2 if bottom else 0.0))
         if found:
