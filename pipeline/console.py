@@ -51,7 +51,7 @@ def takeoff_text(takeoff, derived_list) -> str:
         f"true north {takeoff.true_north_deg:.1f} deg counter-clockwise from +Y",
     ]
     for b, d in zip(takeoff.buildings, derived_list):
-        levels = {lv.storey_id: lv for lv in d.stick.levels} if d.stick else {}
+        levels = {lv.storey_id: lv for lv in d.levels}
         centres = {}
         if d.stick and d.stick.stiffness_centres_m:
             centres = {lv.storey_id: c for lv, c in zip(d.stick.levels, d.stick.stiffness_centres_m)}
@@ -74,17 +74,22 @@ def takeoff_text(takeoff, derived_list) -> str:
         lines.append(table(
             ["storey", "elev m", "height m", "above", "slab m2", "slab t m", "walls", "wall len m", "columns",
              "mass t", "mass centre", "stiff. centre"], rows))
-        if d.stick:
-            total = d.stick.total_mass_kg
+        if d.levels and d.total_mass_kg > 0:
+            total = d.total_mass_kg
             comps: dict[str, float] = {}
-            for lv in d.stick.levels:
+            for lv in d.levels:
                 for k, v in lv.mass_components_kg:
                     comps[k] = comps.get(k, 0.0) + v
             lines.append("")
-            lines.append(f"Total sway mass {total / 1000:,.0f} t over {d.stick.n_levels} floors, "
-                         f"height {d.stick.height_m:.1f} m above the base:")
+            height = d.levels[-1].elevation_m - (d.base_elevation_m or 0.0)
+            lines.append(f"Total sway mass {total / 1000:,.0f} t over {len(d.levels)} floors, "
+                         f"height {height:.1f} m above the base:")
             for k, v in comps.items():
                 lines.append(f"  {k:<24} {v / 1000:>12,.0f} t  ({100 * v / total:4.1f} %)")
+            if d.gross_volume_m3 > 0:
+                lines.append(f"  building density {total / d.gross_volume_m3:,.0f} kg/m3 of gross volume "
+                             f"({d.gross_volume_m3:,.0f} m3)")
+        if d.stick:
             if d.stick.cores:
                 lines.append("")
                 lines.append(table(

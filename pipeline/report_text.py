@@ -79,8 +79,12 @@ def screening_text(run) -> str:
             out += dl
         for r in b.assessment.reasons:
             out.append(f"Note: {r}")
-        for s in b.skipped:
-            out.append(f"Skipped: {s}")
+        if b.derived.stick is None and b.skipped:
+            names = ", ".join(s.split(":")[0] for s in b.skipped)
+            out.append(f"Not computed (no stick model): {names}")
+        else:
+            for s in b.skipped:
+                out.append(f"Skipped: {s}")
         for f in b.failures:
             out.append(f"Estimator failed: {f.plugin}: {f.message}")
         nwarn = len(b.building.warnings) + len(b.derived.warnings)

@@ -138,9 +138,9 @@ def building_summary(b) -> dict[str, Any]:
     checks = list(b.assessment.checks)
     gov = b.assessment.governing
     storeys = []
-    if stick is not None:
-        centres = stick.stiffness_centres_m or ()
-        for i, lv in enumerate(stick.levels):
+    centres = (stick.stiffness_centres_m or ()) if stick is not None else ()
+    if b.derived.levels:
+        for i, lv in enumerate(b.derived.levels):
             storeys.append({
                 "name": lv.name, "global_id": lv.storey_id, "elevation_m": _num(lv.elevation_m),
                 "mass_kg": _num(lv.mass_kg), "mass_centre_m": [_num(v) for v in lv.mass_centre_m],
@@ -151,7 +151,7 @@ def building_summary(b) -> dict[str, Any]:
         "global_id": b.building.global_id,
         "status": b.assessment.status,
         "height_m": _num(stick.height_m) if stick else None,
-        "total_mass_kg": _num(stick.total_mass_kg) if stick else None,
+        "total_mass_kg": _num(b.derived.total_mass_kg) if b.derived.levels else None,
         "modes": _modes(b.results),
         "empirical": _empirical(b.results),
         "accelerations": _accelerations(checks),
@@ -201,7 +201,7 @@ def takeoff_json(base: dict[str, Any], takeoff, derived_list) -> dict[str, Any]:
     """Extend the reader's takeoff dict with masses, stiffness centres and cores (issue 3 keys)."""
     for bdict, d in zip(base.get("buildings", []), derived_list):
         stick = d.stick
-        levels = {lv.storey_id: (i, lv) for i, lv in enumerate(stick.levels)} if stick else {}
+        levels = {lv.storey_id: (i, lv) for i, lv in enumerate(d.levels)}
         centres = stick.stiffness_centres_m if stick else ()
         for s in bdict.get("storeys", []):
             hit = levels.get(s.get("global_id"))
@@ -214,7 +214,8 @@ def takeoff_json(base: dict[str, Any], takeoff, derived_list) -> dict[str, Any]:
             s["mass_centre_m"] = [_num(v) for v in lv.mass_centre_m]
             s["stiffness_centre_m"] = [_num(v) for v in centres[i]] if i < len(centres) else None
             s["mass_components_kg"] = {k: _num(v) for k, v in lv.mass_components_kg}
-        bdict["total_mass_kg"] = _num(stick.total_mass_kg) if stick else None
+        bdict["total_mass_kg"] = _num(d.total_mass_kg) if d.levels else None
+        bdict["gross_volume_m3"] = _num(d.gross_volume_m3)
         bdict["cores"] = [
             {"id": c.id, "wall_ids": list(c.wall_ids), "closed": bool(c.closed), "area_m2": _num(c.section.area_m2),
              "ixx_m4": _num(c.section.ixx_m4), "iyy_m4": _num(c.section.iyy_m4), "j_m4": _num(c.section.j_m4),
