@@ -481,22 +481,45 @@ def test_other_refusals(models, tmp_path):
 # --------------------------------------------------------------------------- atomic write
 
 
-def test_failure_mid_write_leaves_nothing(models, tmp_path, monkeypatch):
-    src = models["ifc4_mm"]
-    calls = {"n": 0}
-    real_emit = writing._Copier._emit
+class _FailingFile:
+    """A file object whose second write fails (a full disk, simulated)."""
 
-    def failing_emit(self, data):
-        calls["n"] += 1
-        if calls["n"] == 2:
+    def __init__(self, fh):
+        self.fh, self.calls = fh, 0
+
+    def write(self, data):
+        self.calls += 1
+        if self.calls == 2:
             raise OSError("disk full (simulated)")
-        real_emit(self, data)
+        return self.fh.write(data)
 
-    monkeypatch.setattr(writing._Copier, "_emit", failing_emit)
+    def __getattr__(self, name):
+        return getattr(self.fh, name)
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.fh.close()
+
+
+@pytest.mark.parametrize("fast", [True, False], ids=["plain-copy", "statement-scanner"])
+def test_failure_mid_write_leaves_nothing(models, tmp_path, monkeypatch, fast):
+    src = models["ifc4_mm"]
+    opened = []
+    real_fdopen = os.fdopen
+
+    def failing_fdopen(*args, **kwargs):
+        opened.append(_FailingFile(real_fdopen(*args, **kwargs)))
+        return opened[-1]
+
+    monkeypatch.setattr(writing, "_FAST_COPY", fast)
+    monkeypatch.setattr(writing, "_BLOCK", 512)  # several writes
+    monkeypatch.setattr(writing.os, "fdopen", failing_fdopen)
     dst = tmp_path / "out" / "annotated.ifc"
     with pytest.raises(OSError, match="simulated"):
         write_annotated(src, dst, sway_annotations(src))
-    assert calls["n"] == 2
+    assert opened and opened[0].calls == 2  # it failed part-way, after a first write
     assert not dst.exists()
     assert list(dst.parent.iterdir()) == []  # no temporary file either
 
@@ -520,15 +543,22 @@ def test_failure_keeps_an_existing_destination(models, tmp_path, monkeypatch):
 # --------------------------------------------------------------------------- parsing robustness
 
 
-def test_small_read_blocks_give_the_same_output(models, tmp_path, monkeypatch):
-    """Statements cut at every possible block edge are still found whole."""
-    src = models["ifc2x3_m"]
+@pytest.mark.parametrize("name", FIXTURES)
+def test_plain_copy_and_statement_scanner_agree(models, tmp_path, monkeypatch, name):
+    """The comment-free first-run shortcut and the full statement scanner give the same bytes,
+    also with statements cut at every kind of read-block edge."""
+    src = models[name]
     anns = sway_annotations(src)
     write_annotated(src, tmp_path / "ref.ifc", anns)
-    for block in (1, 7, 64, 1000):
+    monkeypatch.setattr(writing, "_FAST_COPY", False)
+    for block in (1, 7, 64, 1000, 1 << 22):
         monkeypatch.setattr(writing, "_BLOCK", block)
         write_annotated(src, tmp_path / f"b{block}.ifc", anns)
         assert (tmp_path / f"b{block}.ifc").read_bytes() == (tmp_path / "ref.ifc").read_bytes()
+    monkeypatch.setattr(writing, "_FAST_COPY", True)
+    monkeypatch.setattr(writing, "_BLOCK", 5)
+    write_annotated(src, tmp_path / "fast5.ifc", anns)
+    assert (tmp_path / "fast5.ifc").read_bytes() == (tmp_path / "ref.ifc").read_bytes()
 
 
 def _awkward_copy(src: Path, dst: Path, eol: bytes) -> None:
@@ -565,6 +595,36 @@ def test_awkward_but_legal_syntax(models, tmp_path, eol):
     again = tmp_path / "again.ifc"
     write_annotated(dst, again, anns)
     assert again.read_bytes() == dst.read_bytes()
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    name=st.text(alphabet=st.sampled_from(list("ab;'/*\\=#()$,. \u00e9\u4e2d")), max_size=30),
+    comment=st.booleans(),
+)
+def test_any_names_survive_byte_for_byte(models, tmp_path_factory, name, comment):
+    """Whatever ifcopenshell writes into a string (';', quotes, '/*', escapes), both copy paths
+    keep the original bytes and the model reopens with the name intact."""
+    tmp = tmp_path_factory.mktemp("names")
+    f = ifcopenshell.open(str(models["ifc4_mm"]))
+    wall = f.by_type("IfcWall")[-1]
+    wall.Name = name
+    src = tmp / "named.ifc"
+    f.write(str(src))
+    if comment:
+        raw = src.read_bytes()
+        src.write_bytes(raw.replace(b"DATA;\n", b"DATA;\n/* note; it's here */\n", 1))
+    anns = sway_annotations(src)
+    dst = tmp / "out.ifc"
+    write_annotated(src, dst, anns)
+    check_round_trip(src, dst, anns)
+    assert ifcopenshell.open(str(dst)).by_guid(wall.GlobalId).Name == name
+    writing._FAST_COPY = False
+    try:
+        write_annotated(src, tmp / "scanned.ifc", anns)
+    finally:
+        writing._FAST_COPY = True
+    assert (tmp / "scanned.ifc").read_bytes() == dst.read_bytes()
 
 
 def test_ifc2x3_without_owner_history_gets_one(models, tmp_path):
@@ -646,6 +706,14 @@ def test_real_samples(src, tmp_path):
     assert report2.psets_replaced == len(anns)
     assert type_counts(again) == type_counts(dst)
     assert again.read_bytes() == dst.read_bytes()
+    # the full statement scanner gives the same bytes as the first-run shortcut
+    scanned = tmp_path / f"scanned-{src.name}"
+    writing._FAST_COPY = False
+    try:
+        write_annotated(src, scanned, anns)
+    finally:
+        writing._FAST_COPY = True
+    assert scanned.read_bytes() == dst.read_bytes()
     # the exports carry some schema errors of their own; writing adds none
     before, after = validate_output(src), validate_output(dst)
     assert Counter(after) == Counter(before)
