@@ -13,11 +13,9 @@ External references used here:
 from __future__ import annotations
 
 import gc
-import importlib.util
 import json
 import math
 import multiprocessing
-import sys
 from pathlib import Path
 
 import ifcopenshell
@@ -31,21 +29,11 @@ import numpy as np
 import pytest
 from shapely.geometry import Polygon, box
 
+from swayscreen.sample_models import generate as gen
+
 SAMPLES_DIR = Path(__file__).resolve().parents[1] / "sample_models"
 
 
-def _load_generator():
-    name = "swayscreen_sample_generator"
-    if name in sys.modules:
-        return sys.modules[name]
-    spec = importlib.util.spec_from_file_location(name, SAMPLES_DIR / "generate.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[name] = module  # dataclasses resolve their module through sys.modules
-    spec.loader.exec_module(module)
-    return module
-
-
-gen = _load_generator()
 SAMPLE_FILES = list(gen.SAMPLE_FILES)
 
 
