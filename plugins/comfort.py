@@ -17,6 +17,10 @@ Criteria (sources in the settings):
 * the median perception threshold (about 5 mg at 0.1-0.3 Hz; ISO 6897 / common practice),
   reported, and a pass/fail gate only when ``perception_gate`` is set.
 
+A result outside its method's range (``valid`` false) is still checked, with the reason in
+the note: an out-of-range estimate above a limit flags the scheme (conservative; such cases
+call for wind-tunnel testing).
+
 Value checked: the peak at the top occupied floor; with ``use_corners`` and corner results
 present, the larger of that and the resultant at the governing plate corner. For the curve
 criterion each case is compared with the curve at its own mode frequency (a combined corner

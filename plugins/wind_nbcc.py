@@ -40,6 +40,11 @@ the across-wind direction gives cos^2 alpha across and cos alpha along its own a
 modal EN path does). The along-wind result needs no such factor: Delta comes from the mode's
 own generalized mass.
 
+Geometry: W and D are the reference plate's extents across and along the wind (the
+[wind] ``plate_rule``); for oblique sectors they are the projected extents, a screening
+extension of a method fitted to winds normal to a face. rho_B = total mass / (W D H). The
+RMS reported is the peak over its peak factor g_p.
+
 Validity (reported, result still given): W/D within 1/3..3 and reduced velocity
 V_H/(n_W sqrt(W D)) <= 10 for the across-wind fit (the range of the wind-tunnel data it
 came from, from memory); the dynamic procedure's range: lowest frequency >= 0.25 Hz and
