@@ -27,6 +27,7 @@ swept-disk solids) goes through the geometry engine (:func:`mesh_body`).
 """
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -40,7 +41,8 @@ from .errors import InputError
 
 __all__ = [
     "NotParametric", "Prism", "Geometry", "MeshBody", "mesh_body", "polygonal",
-    "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical",
+    "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical", "prism_plan_parts",
+    "Profile", "attr",
     "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH", "faces_body", "triangles_body",
     "Face",
 ]
@@ -53,6 +55,9 @@ MAX_PLACEMENT_DEPTH = 256
 """Longest IfcLocalPlacement chain accepted (real models nest fewer than 10 levels)."""
 VERTICAL_TOL = 1e-4
 """|1 - cos| below which an extrusion counts as vertical / a profile plane as horizontal (~0.8 deg)."""
+_SIN_TOL = math.sqrt(2 * VERTICAL_TOL)
+_EYE4 = np.eye(4)
+_EYE4.flags.writeable = False
 
 
 class NotParametric(Exception):
@@ -60,8 +65,30 @@ class NotParametric(Exception):
 
 
 @dataclass(frozen=True)
+class Profile:
+    """A profile polygon (metres, profile coordinates) with its rings as arrays.
+
+    Attributes:
+        polygon: the shapely polygon.
+        parts: per polygon part, its closed exterior ring and closed hole rings, (k, 2) arrays.
+        area: polygon area (m^2).
+    """
+
+    polygon: Polygon | MultiPolygon
+    parts: tuple[tuple[np.ndarray, tuple[np.ndarray, ...]], ...]
+    area: float
+
+    @staticmethod
+    def of(poly: Polygon | MultiPolygon) -> "Profile":
+        polys = poly.geoms if isinstance(poly, MultiPolygon) else [poly]
+        parts = tuple((np.asarray(q.exterior.coords)[:, :2], tuple(np.asarray(r.coords)[:, :2] for r in q.interiors))
+                      for q in polys)
+        return Profile(poly, parts, float(poly.area))
+
+
+@dataclass(frozen=True)
 class Prism:
-    """A straight extrusion in world coordinates.
+    """A straight extrusion in world coordinates, with its closed-form summary.
 
     Attributes:
         profile: the swept area in its own plane (metres, local x/y).
@@ -69,23 +96,49 @@ class Prism:
         direction: unit world extrusion direction.
         depth_m: extrusion length along ``direction`` (m).
         clipped: True when the solid was the first operand of a half-space clipping.
+        vertical: profile plane horizontal and extrusion vertical.
+        zmin, zmax: world vertical extent (m).
+        volume_m3: profile area x depth x |cos(extrusion, profile normal)|.
     """
 
-    profile: Polygon | MultiPolygon
+    profile: Profile
     matrix: np.ndarray
     direction: np.ndarray
     depth_m: float
     clipped: bool = False
+    vertical: bool = True
+    zmin: float = 0.0
+    zmax: float = 0.0
+    volume_m3: float = 0.0
 
 
 # ---------------------------------------------------------------------------- helpers
 
+_IDX: dict[tuple[str, str], int] = {}
+_MISSING = 4294967295
+
+
+def attr(e, name: str):
+    """Forward attribute ``name`` of an entity, or None when the entity type has none.
+
+    Reads by positional index cached per (schema.type, name): several times faster than
+    ``e.Name``, and never falls into ifcopenshell's derived-attribute lookup for names a
+    type lacks (``getattr(e, "Missing", None)`` imports the schema's rule module).
+    """
+    key = (e.is_a(True), name)
+    i = _IDX.get(key)
+    if i is None:
+        i = e.get_argument_index(name)
+        _IDX[key] = i
+    return None if i == _MISSING else e.get_argument(i)
+
+
 def _coords(point) -> list[float]:
-    return [float(c) for c in point.Coordinates]
+    return [float(c) for c in attr(point, "Coordinates")]
 
 
 def _ratios(direction, n: int = 3) -> np.ndarray:
-    r = [float(c) for c in direction.DirectionRatios]
+    r = [float(c) for c in attr(direction, "DirectionRatios")]
     r = (r + [0.0, 0.0, 0.0])[:n]
     return np.array(r)
 
@@ -187,36 +240,61 @@ class Geometry:
         self.where = where
         self._axis: dict[int, np.ndarray] = {}
         self._placement: dict[int, np.ndarray] = {}
-        self._profile: dict[int, Polygon | MultiPolygon] = {}
+        self._profile: dict[int, Profile] = {}
+        self._profile_by_value: dict[tuple, Profile] = {}
         self._curve: dict[int, np.ndarray] = {}
+        self._dirs: dict[int, tuple[float, float, float] | None] = {}
 
     # -- placements ------------------------------------------------------------------
+    def _dir3(self, d) -> tuple[float, float, float] | None:
+        """Unit 3-vector of an IfcDirection (memoised), None for a zero vector."""
+        if d is None:
+            return None
+        key = d.id()
+        hit = self._dirs.get(key, False)
+        if hit is not False:
+            return hit
+        r = [float(c) for c in d.get_argument(0)] + [0.0, 0.0]
+        n = math.sqrt(r[0] * r[0] + r[1] * r[1] + r[2] * r[2])
+        v = (r[0] / n, r[1] / n, r[2] / n) if n > 1e-12 else None
+        self._dirs[key] = v
+        return v
+
     def axis2(self, ap) -> np.ndarray:
         """4x4 matrix of an IfcAxis2Placement2D/3D (translation in metres); memoised."""
         if ap is None:
-            return np.eye(4)
+            return _EYE4
         key = ap.id()
         m = self._axis.get(key)
         if m is not None:
             return m
-        m = np.eye(4)
-        loc = _coords(ap.Location) if ap.Location is not None and hasattr(ap.Location, "Coordinates") else [0.0]
-        loc = (loc + [0.0, 0.0, 0.0])[:3]
-        m[:3, 3] = np.array(loc) * self.scale
-        if ap.is_a("IfcAxis2Placement2D"):
-            x = _unit(_ratios(ap.RefDirection, 2), np.array([1.0, 0.0])) if ap.RefDirection else np.array([1.0, 0.0])
-            m[:2, 0] = x
-            m[:2, 1] = (-x[1], x[0])
+        # IfcPlacement.Location is attribute 0 in IFC2X3, IFC4 and IFC4X3; Axis 1 and
+        # RefDirection 2 (3D), RefDirection 1 (2D).
+        loc = ap.get_argument(0)
+        c = [float(v) for v in loc.get_argument(0)] if loc is not None and loc.is_a() == "IfcCartesianPoint" else []
+        c = (c + [0.0, 0.0, 0.0])[:3]
+        s = self.scale
+        if ap.is_a() == "IfcAxis2Placement2D":
+            x = self._dir3(ap.get_argument(1)) or (1.0, 0.0, 0.0)
+            h = math.hypot(x[0], x[1]) or 1.0
+            x0, x1 = x[0] / h, x[1] / h
+            m = np.array([[x0, -x1, 0.0, c[0] * s], [x1, x0, 0.0, c[1] * s], [0.0, 0.0, 1.0, c[2] * s],
+                          [0.0, 0.0, 0.0, 1.0]])
         else:
-            z = _unit(_ratios(ap.Axis), np.array([0.0, 0.0, 1.0])) if getattr(ap, "Axis", None) else np.array([0.0, 0.0, 1.0])
-            xr = _ratios(ap.RefDirection) if getattr(ap, "RefDirection", None) else np.array([1.0, 0.0, 0.0])
-            x = xr - float(xr @ z) * z
-            if np.linalg.norm(x) < 1e-9:  # RefDirection parallel to Axis: any perpendicular
-                x = np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
-                x = x - float(x @ z) * z
-            x = x / np.linalg.norm(x)
-            y = np.cross(z, x)
-            m[:3, 0], m[:3, 1], m[:3, 2] = x, y, z
+            z = self._dir3(ap.get_argument(1)) or (0.0, 0.0, 1.0)
+            xr = self._dir3(ap.get_argument(2)) or (1.0, 0.0, 0.0)
+            k = xr[0] * z[0] + xr[1] * z[1] + xr[2] * z[2]
+            x = (xr[0] - k * z[0], xr[1] - k * z[1], xr[2] - k * z[2])
+            n = math.sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2])
+            if n < 1e-9:  # RefDirection parallel to Axis: any perpendicular
+                xr = (1.0, 0.0, 0.0) if abs(z[0]) < 0.9 else (0.0, 1.0, 0.0)
+                k = xr[0] * z[0] + xr[1] * z[1] + xr[2] * z[2]
+                x = (xr[0] - k * z[0], xr[1] - k * z[1], xr[2] - k * z[2])
+                n = math.sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2])
+            x = (x[0] / n, x[1] / n, x[2] / n)
+            y = (z[1] * x[2] - z[2] * x[1], z[2] * x[0] - z[0] * x[2], z[0] * x[1] - z[1] * x[0])
+            m = np.array([[x[0], y[0], z[0], c[0] * s], [x[1], y[1], z[1], c[1] * s], [x[2], y[2], z[2], c[2] * s],
+                          [0.0, 0.0, 0.0, 1.0]])
         self._axis[key] = m
         return m
 
@@ -227,7 +305,7 @@ class Geometry:
             InputError: on a cyclic or absurdly deep (> MAX_PLACEMENT_DEPTH) chain.
         """
         if pl is None:
-            return self.wcs.copy() if self.wcs is not None else np.eye(4)
+            return self.wcs if self.wcs is not None else _EYE4
         cached = self._placement.get(pl.id())
         if cached is not None:
             return cached
@@ -248,17 +326,17 @@ class Geometry:
                                  f"{MAX_PLACEMENT_DEPTH} levels deep")
             seen.add(cid)
             chain.append(cur)
-            cur = getattr(cur, "PlacementRelTo", None)
+            cur = cur.get_argument(0)  # IfcObjectPlacement.PlacementRelTo
         if base is None:
-            base = self.wcs if self.wcs is not None else np.eye(4)
+            base = self.wcs if self.wcs is not None else _EYE4
         for p in reversed(chain):
             base = base @ self._relative(p)
             self._placement[p.id()] = base
         return base
 
     def _relative(self, p) -> np.ndarray:
-        if p.is_a("IfcLocalPlacement"):
-            return self.axis2(p.RelativePlacement)
+        if p.is_a() == "IfcLocalPlacement":
+            return self.axis2(p.get_argument(1))
         # Grid / linear placements: rare; let ifcopenshell evaluate them (file units).
         import ifcopenshell.util.placement as up
 
@@ -277,13 +355,14 @@ class Geometry:
         m = np.eye(4)
         if op is None:
             return m
-        origin = (_coords(op.LocalOrigin) + [0.0, 0.0, 0.0])[:3]
-        s1 = float(op.Scale) if getattr(op, "Scale", None) is not None else 1.0
-        s2 = float(getattr(op, "Scale2", None) or s1) if hasattr(op, "Scale2") else s1
-        s3 = float(getattr(op, "Scale3", None) or s1) if hasattr(op, "Scale3") else s1
-        a1 = _ratios(op.Axis1) if op.Axis1 is not None else None
-        a2 = _ratios(op.Axis2) if op.Axis2 is not None else None
-        a3 = _ratios(op.Axis3) if getattr(op, "Axis3", None) is not None else None
+        origin = (_coords(attr(op, "LocalOrigin")) + [0.0, 0.0, 0.0])[:3]
+        sc = attr(op, "Scale")
+        s1 = float(sc) if sc is not None else 1.0
+        s2 = float(attr(op, "Scale2") or s1)
+        s3 = float(attr(op, "Scale3") or s1)
+        a1 = _ratios(attr(op, "Axis1")) if attr(op, "Axis1") is not None else None
+        a2 = _ratios(attr(op, "Axis2")) if attr(op, "Axis2") is not None else None
+        a3 = _ratios(attr(op, "Axis3")) if attr(op, "Axis3") is not None else None
         # IFC BaseAxis function: z first, then x projected, then y completes the frame.
         z = _unit(a3, np.array([0.0, 0.0, 1.0])) if a3 is not None else np.array([0.0, 0.0, 1.0])
         x = a1 if a1 is not None else (np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0]))
@@ -409,14 +488,31 @@ class Geometry:
         return pts
 
     # -- profiles --------------------------------------------------------------------
-    def profile(self, prof) -> Polygon | MultiPolygon:
-        """Polygon (metres, profile coordinates incl. the profile's Position); memoised."""
+    def profile(self, prof) -> Profile:
+        """Profile polygon (metres, profile coordinates incl. its Position); memoised per
+        entity and, for parameterised profiles, per value (exports repeat identical
+        profiles for every member)."""
         key = prof.id()
-        poly = self._profile.get(key)
-        if poly is None:
-            poly = self._profile_polygon(prof, 0)
-            self._profile[key] = poly
-        return poly
+        hit = self._profile.get(key)
+        if hit is not None:
+            return hit
+        vkey = None
+        if prof.is_a("IfcParameterizedProfileDef"):
+            args = []
+            for i in range(len(prof)):
+                a = prof.get_argument(i)
+                if hasattr(a, "is_a"):  # the Position placement: by its matrix
+                    a = tuple(self.axis2(a)[:2, [0, 1, 3]].ravel().tolist())
+                args.append(a)
+            args[1] = None  # ProfileName does not change the shape
+            vkey = (prof.is_a(), tuple(args))
+            hit = self._profile_by_value.get(vkey)
+        if hit is None:
+            hit = Profile.of(self._profile_polygon(prof, 0))
+            if vkey is not None:
+                self._profile_by_value[vkey] = hit
+        self._profile[key] = hit
+        return hit
 
     def _profile_polygon(self, p, depth: int) -> Polygon | MultiPolygon:
         if depth > 16:
@@ -425,7 +521,7 @@ class Geometry:
         t = p.is_a()
 
         def g(name: str, default: float | None = None) -> float:
-            v = getattr(p, name, None)
+            v = attr(p, name)
             if v is None:
                 if default is None:
                     raise NotParametric(f"{t} #{p.id()} without {name}")
@@ -447,8 +543,8 @@ class Geometry:
             line = shapely.LineString(self.curve_points(p.Curve) * s)
             poly = line.buffer(g("Thickness") / 2.0, cap_style="flat", join_style="mitre")
         elif t == "IfcDerivedProfileDef":
-            parent = self._profile_polygon(p.ParentProfile, depth + 1)
-            m = self.transform_operator(p.Operator)
+            parent = self._profile_polygon(attr(p, "ParentProfile"), depth + 1)
+            m = self.transform_operator(attr(p, "Operator"))
             poly = affinity.affine_transform(parent, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
         elif t == "IfcCompositeProfileDef":
             poly = shapely.union_all([self._profile_polygon(q, depth + 1) for q in p.Profiles])
@@ -472,8 +568,8 @@ class Geometry:
         elif p.is_a("IfcAsymmetricIShapeProfileDef"):
             d = g("OverallDepth")
             tw = g("WebThickness")
-            bb = g("BottomFlangeWidth", None) if hasattr(p, "BottomFlangeWidth") else g("OverallWidth")
-            tb = g("BottomFlangeThickness", None) if hasattr(p, "BottomFlangeThickness") else g("FlangeThickness")
+            bb = g("BottomFlangeWidth") if attr(p, "BottomFlangeWidth") is not None else g("OverallWidth")
+            tb = g("BottomFlangeThickness") if attr(p, "BottomFlangeThickness") is not None else g("FlangeThickness")
             bt = g("TopFlangeWidth")
             tt = g("TopFlangeThickness", tb)
             pts = [(-bb / 2, 0), (bb / 2, 0), (bb / 2, tb), (tw / 2, tb), (tw / 2, d - tt), (bt / 2, d - tt),
@@ -487,7 +583,7 @@ class Geometry:
             poly = Polygon(pts)
         elif p.is_a("IfcLShapeProfileDef"):
             d = g("Depth")
-            w = g("Width") if getattr(p, "Width", None) is not None else d
+            w = g("Width") if attr(p, "Width") is not None else d
             th = g("Thickness")
             x0, y0 = -w / 2, -d / 2
             poly = Polygon([(x0, y0), (x0 + w, y0), (x0 + w, y0 + th), (x0 + th, y0 + th), (x0 + th, y0 + d), (x0, y0 + d)])
@@ -521,7 +617,7 @@ class Geometry:
         else:
             raise NotParametric(f"profile {t}")
 
-        pos = getattr(p, "Position", None) if p.is_a("IfcParameterizedProfileDef") else None
+        pos = attr(p, "Position") if p.is_a("IfcParameterizedProfileDef") else None
         if pos is not None:
             m = self.axis2(pos)
             poly = affinity.affine_transform(poly, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
@@ -555,22 +651,22 @@ class Geometry:
         if t == "IfcExtrudedAreaSolid":
             return [self._extrusion(it, base)], False
         if t in ("IfcBooleanClippingResult", "IfcBooleanResult"):
-            op = str(it.Operator)
-            second = it.SecondOperand
+            op = str(attr(it, "Operator"))
+            second = attr(it, "SecondOperand")
             if op == "DIFFERENCE" and second is not None and second.is_a("IfcHalfSpaceSolid"):
-                prisms, _ = self._item(it.FirstOperand, base, depth + 1)
-                return [Prism(p.profile, p.matrix, p.direction, p.depth_m, True) for p in prisms], True
+                prisms, _ = self._item(attr(it, "FirstOperand"), base, depth + 1)
+                return [dataclasses.replace(p, clipped=True) for p in prisms], True
             if op == "UNION":
-                a, ca = self._item(it.FirstOperand, base, depth + 1)
+                a, ca = self._item(attr(it, "FirstOperand"), base, depth + 1)
                 b, cb = self._item(second, base, depth + 1)
                 return a + b, ca or cb
             raise NotParametric(f"{t} {op} with {second.is_a() if second is not None else 'nothing'}")
         if t == "IfcMappedItem":
-            src = it.MappingSource
-            m = base @ self.transform_operator(it.MappingTarget) @ self.axis2(src.MappingOrigin)
+            src = attr(it, "MappingSource")
+            m = base @ self.transform_operator(attr(it, "MappingTarget")) @ self.axis2(attr(src, "MappingOrigin"))
             out: list[Prism] = []
             clipped = False
-            for sub in src.MappedRepresentation.Items:
+            for sub in attr(attr(src, "MappedRepresentation"), "Items"):
                 p, c = self._item(sub, m, depth + 1)
                 out.extend(p)
                 clipped = clipped or c
@@ -578,16 +674,39 @@ class Geometry:
         raise NotParametric(t)
 
     def _extrusion(self, solid, base: np.ndarray) -> Prism:
-        profile = self.profile(solid.SweptArea)
-        m = base @ self.axis2(solid.Position)
-        d_local = _unit(_ratios(solid.ExtrudedDirection), np.array([0.0, 0.0, 1.0]))
-        v = m[:3, :3] @ (d_local * float(solid.Depth) * self.scale)
-        depth = float(np.linalg.norm(v))
-        direction = v / depth if depth > 0 else m[:3, 2]
-        if float(solid.Depth) < 0:
+        # IfcSweptAreaSolid: SweptArea 0, Position 1; IfcExtrudedAreaSolid: ExtrudedDirection 2,
+        # Depth 3 (all three schemas).
+        profile = self.profile(solid.get_argument(0))
+        pos = solid.get_argument(1)
+        m = base @ self.axis2(pos) if pos is not None else base
+        d = self._dir3(solid.get_argument(2)) or (0.0, 0.0, 1.0)
+        depth_f = float(solid.get_argument(3)) * self.scale
+        (a, b, c, tx), (e, f, g, ty), (h, i, j, tz) = m[:3].tolist()
+        vx = (a * d[0] + b * d[1] + c * d[2]) * depth_f
+        vy = (e * d[0] + f * d[1] + g * d[2]) * depth_f
+        vz = (h * d[0] + i * d[1] + j * d[2]) * depth_f
+        depth = math.sqrt(vx * vx + vy * vy + vz * vz)
+        if depth > 0:
+            direction = (vx / depth, vy / depth, vz / depth)
+        else:
+            direction = (c, g, j)
+        # area vector of the profile plane (columns 0 and 1, scaled by mapped items)
+        nx, ny, nz = e * i - h * f, h * b - a * i, a * f - e * b
+        volume = profile.area * abs(nx * vx + ny * vy + nz * vz)
+        c0 = math.sqrt(a * a + e * e + h * h) or 1.0
+        c1 = math.sqrt(b * b + f * f + i * i) or 1.0
+        vertical = abs(h) <= _SIN_TOL * c0 and abs(i) <= _SIN_TOL * c1 and abs(abs(direction[2]) - 1.0) < VERTICAL_TOL
+        if depth_f < 0:
             depth = -depth
-        return Prism(profile, m, direction, depth)
-
+        if vertical:
+            z0, z1 = tz, tz + vz
+            zmin, zmax = (z0, z1) if z0 <= z1 else (z1, z0)
+            p = Prism(profile, m, np.array(direction), depth, False, True, zmin, zmax, volume)
+        else:
+            p = Prism(profile, m, np.array(direction), depth, False, False, 0.0, 0.0, volume)
+            v = prism_vertices(p)
+            p = dataclasses.replace(p, zmin=float(v[:, 2].min()), zmax=float(v[:, 2].max()))
+        return p
 
     # -- explicit faces (B-reps, face sets, surface models) ----------------------------
     def items_faces(self, items, base: np.ndarray) -> tuple[list[Face], bool]:
@@ -695,18 +814,7 @@ class Geometry:
 
 def prism_is_vertical(p: Prism) -> bool:
     """True when the profile plane is horizontal and the extrusion vertical."""
-    nz = p.matrix[:3, 2]
-    nz = nz / max(float(np.linalg.norm(nz)), 1e-300)
-    return abs(abs(float(nz[2])) - 1.0) < VERTICAL_TOL and abs(abs(float(p.direction[2])) - 1.0) < VERTICAL_TOL
-
-
-def _rings(poly: Polygon | MultiPolygon) -> list[np.ndarray]:
-    polys = poly.geoms if isinstance(poly, MultiPolygon) else [poly]
-    out = []
-    for q in polys:
-        out.append(np.asarray(q.exterior.coords))
-        out.extend(np.asarray(r.coords) for r in q.interiors)
-    return out
+    return p.vertical
 
 
 def _to_world(p: Prism, xy: np.ndarray) -> np.ndarray:
@@ -716,43 +824,50 @@ def _to_world(p: Prism, xy: np.ndarray) -> np.ndarray:
 
 def prism_vertices(p: Prism) -> np.ndarray:
     """World vertices (n, 3) of the prism's base and top outer rings."""
-    polys = p.profile.geoms if isinstance(p.profile, MultiPolygon) else [p.profile]
-    ring = np.vstack([np.asarray(q.exterior.coords) for q in polys])
+    ring = np.vstack([ext for ext, _ in p.profile.parts])
     base = _to_world(p, ring)
     return np.vstack([base, base + p.direction * p.depth_m])
 
 
 def prism_zrange(p: Prism) -> tuple[float, float]:
     """Lowest and highest world z of the prism (m)."""
-    v = prism_vertices(p)
-    return float(v[:, 2].min()), float(v[:, 2].max())
+    return p.zmin, p.zmax
 
 
 def prism_volume(p: Prism) -> float:
     """Volume (m^3): profile area x depth x |cos| between extrusion and profile normal."""
-    cols = p.matrix[:3, :3]
-    # area scale of the profile plane (mapped items may scale), and the normal component.
-    cross = np.cross(cols[:, 0], cols[:, 1])
-    return float(p.profile.area * abs(float(cross @ p.direction)) * abs(p.depth_m))
+    return p.volume_m3
+
+
+def prism_plan_parts(p: Prism) -> list[tuple[np.ndarray, list[np.ndarray]]]:
+    """World plan rings (exterior, holes) of a vertical prism's profile."""
+    m = p.matrix
+    A = m[:2, :2].T
+    t = m[:2, 3]
+    return [(ext @ A + t, [h @ A + t for h in holes]) for ext, holes in p.profile.parts]
 
 
 def prism_footprint(p: Prism) -> Polygon | MultiPolygon:
     """World plan projection of the prism (exact, as a polygon)."""
+    if p.vertical:
+        parts = prism_plan_parts(p)
+        if len(parts) == 1:
+            ext, holes = parts[0]
+            return Polygon(ext, holes) if holes else shapely.polygons(ext)
+        return MultiPolygon([Polygon(e, h) for e, h in parts])
     m = p.matrix
-    if prism_is_vertical(p):
-        return polygonal(affinity.affine_transform(p.profile, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]]))
     # Minkowski sum of the projected profile with the projected extrusion vector:
     # base and top faces plus every boundary edge swept along the extrusion.
     v = p.direction[:2] * p.depth_m
     quads = []
-    for ring in _rings(p.profile):
-        w = _to_world(p, ring)[:, :2]
-        a, b = w[:-1], w[1:]
-        q = np.stack([a, b, b + v, a + v, a], axis=1)
-        quads.append(q)
+    for ext, holes in p.profile.parts:
+        for ring in (ext, *holes):
+            w = _to_world(p, ring)[:, :2]
+            a, b = w[:-1], w[1:]
+            quads.append(np.stack([a, b, b + v, a + v, a], axis=1))
     q = np.concatenate(quads)
     polys = list(shapely.polygons(q))
-    base = affinity.affine_transform(p.profile, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
+    base = affinity.affine_transform(p.profile.polygon, [m[0, 0], m[0, 1], m[1, 0], m[1, 1], m[0, 3], m[1, 3]])
     parts = [g for g in polys + [base, affinity.translate(base, float(v[0]), float(v[1]))]
              if g.is_valid and g.area > 1e-12]
     return polygonal(shapely.union_all(parts)) if parts else Polygon()

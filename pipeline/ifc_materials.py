@@ -119,6 +119,7 @@ class MaterialReader:
         for props in model.by_type("IfcMaterialProperties"):
             self._read_props(props)
         self._cache: dict[int, Material] = {}
+        self._info: dict[int, MaterialInfo] = {}
         self.dropped: list[str] = []
 
     # -- properties -----------------------------------------------------------------
@@ -205,12 +206,20 @@ class MaterialReader:
         return [], None, False
 
     def for_element(self, element) -> MaterialInfo:
-        """Material of an occurrence, else of its type."""
+        """Material of an occurrence, else of its type (memoised per material select)."""
         sel = self.assoc.get(element.id())
         if sel is None:
             t = self.types.get(element.id())
             if t is not None:
                 sel = self.assoc.get(t.id())
+        key = sel.id() if sel is not None else 0
+        hit = self._info.get(key)
+        if hit is None:
+            hit = self._select_info(sel)
+            self._info[key] = hit
+        return hit
+
+    def _select_info(self, sel) -> MaterialInfo:
         parts, total, usage = self._parts(sel)
         if not parts:
             return MaterialInfo(None, total, usage)

@@ -65,7 +65,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
-from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, faces_body, mesh_body, polygonal, prism_footprint,
+from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, attr, faces_body, mesh_body, polygonal, prism_footprint,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
 from .ifc_materials import MaterialReader
 from .ifc_units import read_context, read_units
@@ -82,6 +82,7 @@ _USAGE_RULES = [
     ("hotel", re.compile(r"hotel|guest ?room")),
     ("plant", re.compile(r"\bplant\b|mechanical|machine room|technik|\bmep\b|\bhvac\b")),
     ("retail", re.compile(r"retail|\bshops?\b|laden")),
+    ("parking", re.compile(r"parking|car ?park|garage|tiefgarage")),
 ]
 _ATTR_COUNT = re.compile(r"Expected (\d+) attribute values, found (\d+) for instance #(\d+)")
 _LAYER_TOL_REL = 0.05
@@ -209,8 +210,8 @@ def _plural(n: int, word: str) -> str:
 
 
 def _label(el) -> str:
-    name = (el.Name or "").strip()
-    return f"{el.is_a()} {el.GlobalId}" + (f" '{name}'" if name else "")
+    name = (attr(el, "Name") or "").strip()
+    return f"{el.is_a()} {attr(el, 'GlobalId')}" + (f" '{name}'" if name else "")
 
 
 # ---------------------------------------------------------------------------- the reader
@@ -236,66 +237,82 @@ class _Reader:
         m = self.model
         self.container: dict[int, object] = {}
         for rel in m.by_type("IfcRelContainedInSpatialStructure"):
-            s = rel.RelatingStructure
-            for e in rel.RelatedElements or ():
-                self.container.setdefault(e.id(), s)
+            st_ = attr(rel, "RelatingStructure")
+            for e in attr(rel, "RelatedElements") or ():
+                self.container.setdefault(e.id(), st_)
         self.parent: dict[int, object] = {}
         self.children: dict[int, list] = defaultdict(list)
         for rel in m.by_type("IfcRelAggregates"):
-            par = rel.RelatingObject
-            for c in rel.RelatedObjects or ():
+            par = attr(rel, "RelatingObject")
+            for c in attr(rel, "RelatedObjects") or ():
                 self.parent.setdefault(c.id(), par)
                 self.children[par.id()].append(c)
         if m.schema != "IFC2X3":
             for rel in m.by_type("IfcRelNests"):
-                par = rel.RelatingObject
-                for c in rel.RelatedObjects or ():
+                par = attr(rel, "RelatingObject")
+                for c in attr(rel, "RelatedObjects") or ():
                     self.parent.setdefault(c.id(), par)
         self.voids: dict[int, list] = defaultdict(list)
         for rel in m.by_type("IfcRelVoidsElement"):
-            self.voids[rel.RelatingBuildingElement.id()].append(rel.RelatedOpeningElement)
+            self.voids[attr(rel, "RelatingBuildingElement").id()].append(attr(rel, "RelatedOpeningElement"))
         self.types: dict[int, object] = {}
         for rel in m.by_type("IfcRelDefinesByType"):
-            t = rel.RelatingType
-            for o in rel.RelatedObjects or ():
+            t = attr(rel, "RelatingType")
+            for o in attr(rel, "RelatedObjects") or ():
                 self.types[o.id()] = t
         self.load_bearing: dict[int, bool] = {}
+        self.occupancy: dict[int, str] = {}
         for rel in m.by_type("IfcRelDefinesByProperties"):
-            pd = rel.RelatingPropertyDefinition
-            if getattr(pd, "Name", None) != "Pset_WallCommon" or not pd.is_a("IfcPropertySet"):
-                continue
-            lb = self._pset_load_bearing(pd)
-            if lb is not None:
-                for o in rel.RelatedObjects or ():
-                    self.load_bearing[o.id()] = lb
+            pds = attr(rel, "RelatingPropertyDefinition")
+            for pd in (pds if isinstance(pds, tuple) else (pds,)):
+                name = attr(pd, "Name") if pd is not None else None
+                if name == "Pset_WallCommon" and pd.is_a("IfcPropertySet"):
+                    lb = self._pset_load_bearing(pd)
+                    if lb is not None:
+                        for o in attr(rel, "RelatedObjects") or ():
+                            self.load_bearing[o.id()] = lb
+                elif name == "Pset_SpaceOccupancyRequirements" and pd.is_a("IfcPropertySet"):
+                    for prop in attr(pd, "HasProperties") or ():
+                        if attr(prop, "Name") == "OccupancyType" and prop.is_a("IfcPropertySingleValue"):
+                            v = attr(prop, "NominalValue")
+                            text = str(getattr(v, "wrappedValue", v) or "")
+                            for o in attr(rel, "RelatedObjects") or ():
+                                self.occupancy[o.id()] = text
 
     @staticmethod
     def _pset_load_bearing(pset) -> bool | None:
-        for prop in pset.HasProperties or ():
-            if prop.Name == "LoadBearing" and prop.is_a("IfcPropertySingleValue"):
-                return _bool(prop.NominalValue)
+        for prop in attr(pset, "HasProperties") or ():
+            if attr(prop, "Name") == "LoadBearing" and prop.is_a("IfcPropertySingleValue"):
+                return _bool(attr(prop, "NominalValue"))
         return None
 
     def _type_load_bearing(self, el) -> bool | None:
         t = self.types.get(el.id())
-        for pset in (getattr(t, "HasPropertySets", None) or ()) if t is not None else ():
-            if getattr(pset, "Name", None) == "Pset_WallCommon" and pset.is_a("IfcPropertySet"):
+        for pset in (attr(t, "HasPropertySets") or ()) if t is not None else ():
+            if attr(pset, "Name") == "Pset_WallCommon" and pset.is_a("IfcPropertySet"):
                 return self._pset_load_bearing(pset)
         return None
 
     def _spatial_parent(self, obj):
         """The storey (or building) an element or space belongs to, via containment/aggregation."""
+        key = obj.id()
+        if key in self._sp_cache:
+            return self._sp_cache[key]
         cur = obj
+        found = None
         for _ in range(64):
             if cur is None:
-                return None
-            if cur.is_a("IfcBuildingStorey") or cur.is_a("IfcBuilding"):
-                return cur
+                break
+            t = cur.is_a()
+            if t == "IfcBuildingStorey" or t == "IfcBuilding":
+                found = cur
+                break
             nxt = self.container.get(cur.id())
             if nxt is None:
                 nxt = self.parent.get(cur.id())
             cur = nxt
-        return None
+        self._sp_cache[key] = found
+        return found
 
     def _building_of(self, storey):
         cur = self.parent.get(storey.id())
@@ -309,28 +326,34 @@ class _Reader:
 
     # -- bodies -----------------------------------------------------------------------
     def _solid(self, el, kind: str, openings: bool = False) -> _Solid | None:
-        rep = getattr(el, "Representation", None)
-        reps = list(rep.Representations or ()) if rep is not None else []
-        body = [r for r in reps if str(r.RepresentationIdentifier or "").lower() == "body"]
+        # Positions fixed in IFC2X3, IFC4 and IFC4X3: IfcProduct.ObjectPlacement 5,
+        # .Representation 6; IfcProductRepresentation.Representations 2;
+        # IfcRepresentation.RepresentationIdentifier 1, .RepresentationType 2, .Items 3.
+        rep = el.get_argument(6)
+        reps = (rep.get_argument(2) or ()) if rep is not None else ()
+        body = [r for r in reps if r.get_argument(1) == "Body"]
         if not body:
-            body = [r for r in reps if str(r.RepresentationType or "") in _BODY_TYPES]
+            body = [r for r in reps if str(r.get_argument(1) or "").lower() == "body"]
+        if not body:
+            body = [r for r in reps if str(r.get_argument(2) or "") in _BODY_TYPES]
         if not body:
             if not openings:
                 self.no_geometry[kind].append(_label(el))
             return None
-        base = self.geo.placement(el.ObjectPlacement)
+        base = self.geo.placement(el.get_argument(5))
+        items = body[0].get_argument(3) or ()
         try:
-            prisms, clipped = self.geo.items_prisms(body[0].Items, base)
+            prisms, clipped = self.geo.items_prisms(items, base)
             if not prisms:
                 raise NotParametric("empty body")
             solid = _from_prisms(prisms, clipped)
             if clipped and not openings:
-                self.clipped[kind].append(el.GlobalId)
+                self.clipped[kind].append(attr(el, "GlobalId"))
             return solid
         except NotParametric as why:
             reason = str(why).split(" ")[0]
         try:
-            faces, clipped = self.geo.items_faces(body[0].Items, base)
+            faces, clipped = self.geo.items_faces(items, base)
             mb = faces_body(faces)
         except NotParametric:
             clipped = False
@@ -340,15 +363,15 @@ class _Reader:
                 self.no_geometry[kind].append(f"{_label(el)} ({reason})")
             return None
         if not openings:
-            self.mesh_ids.append(el.GlobalId)
+            self.mesh_ids.append(attr(el, "GlobalId"))
             self.mesh_types[reason] += 1
             if clipped:
-                self.clipped[kind].append(el.GlobalId)
+                self.clipped[kind].append(attr(el, "GlobalId"))
         return _Solid(mb.footprint, mb.zmin, mb.zmax, mb.volume_m3, not mb.sloped, clipped, [], mb)
 
     def _openings(self, el):
         for op in self.voids.get(el.id(), ()):
-            ptype = str(getattr(op, "PredefinedType", None) or getattr(op, "ObjectType", None) or "").upper()
+            ptype = str(attr(op, "PredefinedType") or attr(op, "ObjectType") or "").upper()
             if ptype == "RECESS":
                 continue
             sol = self._opening_cache.get(op.id())
@@ -359,10 +382,10 @@ class _Reader:
 
     # -- elements ---------------------------------------------------------------------
     def _predefined(self, el) -> str:
-        occ = getattr(el, "PredefinedType", None)
+        occ = attr(el, "PredefinedType")
         if occ in (None, "NOTDEFINED"):
             t = self.types.get(el.id())
-            tt = getattr(t, "PredefinedType", None) if t is not None else None
+            tt = attr(t, "PredefinedType") if t is not None else None
             if tt not in (None, "NOTDEFINED"):
                 return str(tt)
         return str(occ or "NOTDEFINED")
@@ -370,12 +393,12 @@ class _Reader:
     def _material(self, el, kind: str):
         info = self.materials.for_element(el)
         if info.material is None:
-            self.no_material[kind].append(el.GlobalId)
+            self.no_material[kind].append(attr(el, "GlobalId"))
         return info
 
     def _storey_id(self, el) -> str | None:
         sp = self._spatial_parent(el)
-        return sp.GlobalId if sp is not None and sp.is_a("IfcBuildingStorey") else None
+        return attr(sp, "GlobalId") if sp is not None and sp.is_a() == "IfcBuildingStorey" else None
 
     def _slab(self, el) -> Placed | None:
         solid = self._solid(el, "slab")
@@ -396,7 +419,7 @@ class _Reader:
         cuts = []
         for op, sol in self._openings(el):
             if sol is None or sol.mesh is not None or not sol.vertical:
-                self.skipped_openings.append(op.GlobalId)
+                self.skipped_openings.append(attr(op, "GlobalId"))
                 continue
             if sol.zmax < solid.zmin - 1e-6 or sol.zmin > solid.zmax + 1e-6:
                 continue
@@ -404,29 +427,32 @@ class _Reader:
         if cuts:
             footprint = polygonal(footprint.difference(shapely.union_all(cuts)))
         info = self._material(el, "slab")
-        slab = Slab(global_id=el.GlobalId, name=str(el.Name or ""), footprint=footprint, thickness_m=float(thickness),
+        slab = Slab(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), footprint=footprint, thickness_m=float(thickness),
                     top_elevation_m=float(solid.zmax), predefined_type=self._predefined(el), sloped=sloped,
                     material=info.material, storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
         return Placed(slab, solid.zmin, solid.zmax)
 
     def _axis_from_rep(self, el) -> np.ndarray | None:
-        rep = getattr(el, "Representation", None)
+        rep = el.get_argument(6)
         if rep is None:
             return None
-        for r in rep.Representations or ():
-            if str(r.RepresentationIdentifier or "").lower() != "axis" or not r.Items:
+        for r in rep.get_argument(2) or ():
+            ident = r.get_argument(1)
+            if ident != "Axis" and str(ident or "").lower() != "axis":
+                continue
+            items = r.get_argument(3)
+            if not items:
                 continue
             try:
-                pts = self.geo.curve_points(r.Items[0]) * self.geo.scale
-            except NotParametric:
-                return None
-            except (AttributeError, TypeError, IndexError, ValueError):
+                pts = self.geo.curve_points(items[0]) * self.geo.scale
+            except (NotParametric, AttributeError, TypeError, IndexError, ValueError):
                 return None
             if len(pts) < 2:
                 return None
-            m = self.geo.placement(el.ObjectPlacement)
+            m = self.geo.placement(el.get_argument(5))
             world = pts @ m[:2, :2].T + m[:2, 3]
-            if float(np.linalg.norm(world[-1] - world[0])) < 1e-6:
+            (x0, y0), (x1, y1) = world[0].tolist(), world[-1].tolist()
+            if math.hypot(x1 - x0, y1 - y0) < 1e-6:
                 return None
             return world
         return None
@@ -440,20 +466,23 @@ class _Reader:
         if height <= 1e-9 or fp.is_empty or fp.area <= 0:
             self.warnings.append(f"{self.where}: wall {_label(el)} has no height or plan area; skipped")
             return None
-        ring = _outline(fp)
         axis = self._axis_from_rep(el)
         if axis is not None:
             a, b = axis[0], axis[-1]
-            chord = float(np.linalg.norm(b - a))
-            u = (b - a) / chord
-            v = np.array([-u[1], u[0]])
-            length = float(np.linalg.norm(np.diff(axis, axis=0), axis=1).sum())
-            dev = np.abs((axis - a) @ v).max()
-            straight = dev <= 0.01 * chord + 1e-3
+            (ax, ay), (bx, by) = a.tolist(), b.tolist()
+            chord = math.hypot(bx - ax, by - ay)
+            ux, uy = (bx - ax) / chord, (by - ay) / chord
+            v = np.array([-uy, ux])
+            if len(axis) == 2:
+                length, straight = chord, True
+            else:
+                length = float(np.hypot(*np.diff(axis, axis=0).T).sum())
+                straight = float(np.abs((axis - a) @ v).max()) <= 0.01 * chord + 1e-3
             if straight:
-                vs = (ring - a) @ v
-                off = 0.5 * (vs.min() + vs.max())
-                t_geom = float(vs.max() - vs.min())
+                vs = (_outline(fp) - a) @ v
+                lo, hi = float(vs.min()), float(vs.max())
+                off = 0.5 * (lo + hi)
+                t_geom = hi - lo
                 a, b = a + off * v, b + off * v
             else:
                 t_geom = float(fp.area) / length
@@ -473,16 +502,16 @@ class _Reader:
             if abs(info.layer_total_m - t_geom) <= max(_LAYER_TOL_ABS, _LAYER_TOL_REL * t_geom):
                 thickness = info.layer_total_m
             else:
-                self.layer_mismatch.append(f"{el.GlobalId} ({info.layer_total_m:.3f} vs {t_geom:.3f} m)")
+                self.layer_mismatch.append(f"{attr(el, 'GlobalId')} ({info.layer_total_m:.3f} vs {t_geom:.3f} m)")
         if length <= 1e-9 or thickness <= 1e-9:
             self.warnings.append(f"{self.where}: wall {_label(el)} has no length or thickness; skipped")
             return None
         base = solid.zmin
-        u = (b - a) / float(np.linalg.norm(b - a))
         openings = []
         for op, sol in self._openings(el):
+            u = (b - a) / float(np.linalg.norm(b - a))
             if sol is None:
-                self.skipped_openings.append(op.GlobalId)
+                self.skipped_openings.append(attr(op, "GlobalId"))
                 continue
             pts = sol.vertices()
             s = (pts[:, :2] - a) @ u
@@ -491,13 +520,14 @@ class _Reader:
             head = min(height, sol.zmax - base)
             if end - start <= 1e-6 or head - sill <= 1e-6:
                 continue
-            openings.append(WallOpening(start, end, sill, head, op.GlobalId))
+            openings.append(WallOpening(start, end, sill, head, attr(op, "GlobalId")))
         openings.sort(key=lambda o: o.start_m)
         lb = self.load_bearing.get(el.id())
         if lb is None:
             lb = self._type_load_bearing(el)
-        wall = Wall(global_id=el.GlobalId, name=str(el.Name or ""),
-                    axis_m=((float(a[0]), float(a[1])), (float(b[0]), float(b[1]))), length_m=float(length),
+        (ax, ay), (bx, by) = a.tolist(), b.tolist()
+        wall = Wall(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""),
+                    axis_m=((ax, ay), (bx, by)), length_m=float(length),
                     thickness_m=float(thickness), height_m=float(height), base_elevation_m=float(base),
                     footprint=fp, openings=tuple(openings), load_bearing=lb, material=info.material,
                     storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
@@ -511,15 +541,15 @@ class _Reader:
         section = solid.footprint
         if solid.prisms and not solid.vertical:
             p = solid.prisms[0]
-            c = p.profile.centroid
+            c = p.profile.polygon.centroid
             start = p.matrix[:3, :2] @ np.array([c.x, c.y]) + p.matrix[:3, 3]
-            section = shapely.affinity.translate(p.profile, float(start[0] - c.x), float(start[1] - c.y))
-            self.inclined_columns.append(el.GlobalId)
+            section = shapely.affinity.translate(p.profile.polygon, float(start[0] - c.x), float(start[1] - c.y))
+            self.inclined_columns.append(attr(el, "GlobalId"))
         if height <= 1e-9 or section.is_empty or section.area <= 0:
             self.warnings.append(f"{self.where}: column {_label(el)} has no height or section; skipped")
             return None
         info = self._material(el, "column")
-        col = Column(global_id=el.GlobalId, name=str(el.Name or ""), section=section, height_m=float(height),
+        col = Column(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), section=section, height_m=float(height),
                      base_elevation_m=float(solid.zmin), material=info.material, storey_id=self._storey_id(el),
                      from_mesh=solid.mesh is not None)
         return Placed(col, solid.zmin, solid.zmax)
@@ -533,7 +563,7 @@ class _Reader:
                     return label
             return None
 
-        own = match(" ".join(str(x) for x in (storey.Name, getattr(storey, "LongName", None)) if x))
+        own = match(" ".join(str(x) for x in (attr(storey, "Name"), attr(storey, "LongName")) if x))
         if own:
             return own
         votes: Counter[str] = Counter()
@@ -543,24 +573,24 @@ class _Reader:
             obj = stack.pop()
             seen += 1
             if obj.is_a("IfcSpace"):
-                u = match(" ".join(str(x) for x in (obj.Name, getattr(obj, "LongName", None),
-                                                     getattr(obj, "ObjectType", None)) if x))
+                u = match(" ".join(str(x) for x in (attr(obj, "Name"), attr(obj, "LongName"), attr(obj, "ObjectType"),
+                                                     self.occupancy.get(obj.id())) if x))
                 if u:
                     votes[u] += 1
                 stack.extend(self.children.get(obj.id(), ()))
         return votes.most_common(1)[0][0] if votes else None
 
     def _elevation(self, storey) -> float:
-        attr = getattr(storey, "Elevation", None)
+        elev = attr(storey, "Elevation")
         z_pl = None
-        if storey.ObjectPlacement is not None:
-            z_pl = float(self.geo.placement(storey.ObjectPlacement)[2, 3])
-        if attr is None:
+        if attr(storey, "ObjectPlacement") is not None:
+            z_pl = float(self.geo.placement(attr(storey, "ObjectPlacement"))[2, 3])
+        if elev is None:
             if z_pl is None:
                 self.warnings.append(f"{self.where}: storey {_label(storey)} has neither Elevation nor placement; 0 assumed")
                 return 0.0
             return z_pl
-        z = float(attr) * self.geo.scale
+        z = float(elev) * self.geo.scale
         if z_pl is not None and abs(z_pl - z) > 1e-3:
             self.warnings.append(f"{self.where}: storey '{storey.Name}' Elevation {z:.3f} m differs from its "
                                  f"placement z {z_pl:.3f} m; the placement is used")
@@ -579,6 +609,7 @@ class _Reader:
         if not storeys:
             raise InputError(f"{self.where}: no IfcBuildingStorey (the model has no storeys to screen)")
         self._scan()
+        self._sp_cache: dict[int, object] = {}
         self._opening_cache: dict[int, _Solid | None] = {}
         self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa)
 
