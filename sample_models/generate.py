@@ -45,7 +45,7 @@ import math
 import sys
 import time
 import uuid
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterator
 
@@ -709,7 +709,7 @@ class _Writer:
             self._points[key] = self.f.createIfcCartesianPoint(tuple(self._L(v) for v in mm))
         return self._points[key]
 
-    def dir(self, *v: float) -> Any:
+    def direction(self, *v: float) -> Any:
         key = tuple(float(c) for c in v)
         if key not in self._dirs:
             self._dirs[key] = self.f.createIfcDirection(key)
@@ -721,7 +721,7 @@ class _Writer:
             if xdir is None or xdir == (1, 0):
                 a = self.f.createIfcAxis2Placement3D(self.pt(*origin), None, None)
             else:
-                a = self.f.createIfcAxis2Placement3D(self.pt(*origin), self.dir(0, 0, 1), self.dir(xdir[0], xdir[1], 0))
+                a = self.f.createIfcAxis2Placement3D(self.pt(*origin), self.direction(0, 0, 1), self.direction(xdir[0], xdir[1], 0))
             self._axes[key] = a
         return self._axes[key]
 
@@ -774,7 +774,7 @@ class _Writer:
         key = (profile.id(), depth, down, z0)
         if key not in self._solids:
             self._solids[key] = self.f.createIfcExtrudedAreaSolid(
-                profile, self.axis3((0, 0, z0)), self.dir(0, 0, -1 if down else 1), self._L(depth))
+                profile, self.axis3((0, 0, z0)), self.direction(0, 0, -1 if down else 1), self._L(depth))
         return self._solids[key]
 
     def shape(self, items: list, *, kind: str = "SweptSolid", axis: Any = None) -> Any:
@@ -851,7 +851,8 @@ class _Writer:
             newton = ifcopenshell.api.unit.add_si_unit(f, "FORCEUNIT")
             pascal = ifcopenshell.api.unit.add_si_unit(f, "PRESSUREUNIT")
             density = f.createIfcDerivedUnit(
-                [f.createIfcDerivedUnitElement(kg, 1), f.createIfcDerivedUnitElement(metre, -3)], "MASSDENSITYUNIT", None)
+                [f.createIfcDerivedUnitElement(kg, 1), f.createIfcDerivedUnitElement(metre, -3)],
+                "MASSDENSITYUNIT", None)
             modulus = f.createIfcDerivedUnit(
                 [f.createIfcDerivedUnitElement(newton, 1), f.createIfcDerivedUnitElement(metre, -2)],
                 "MODULUSOFELASTICITYUNIT", None)
@@ -1101,8 +1102,8 @@ class _Writer:
         def part(ifc_class: str, name: str, ptype: str, rep_map: Any, x: int, z: int, material: str) -> Any:
             e = f.create_entity(ifc_class, GlobalId=self.guid(), OwnerHistory=self.owner["history"], Name=name,
                                 PredefinedType=ptype)
-            axis = f.createIfcAxis2Placement3D(f.createIfcCartesianPoint((self._L(x), self._L(-_half(depth)), self._L(z))),
-                                               f.createIfcDirection((0.0, 0.0, 1.0)),
+            origin = f.createIfcCartesianPoint((self._L(x), self._L(-_half(depth)), self._L(z)))
+            axis = f.createIfcAxis2Placement3D(origin, f.createIfcDirection((0.0, 0.0, 1.0)),
                                                f.createIfcDirection((1.0, 0.0, 0.0)))
             self._pending.append((e, f.createIfcLocalPlacement(self._placement_of[wall], axis)))
             op3 = f.createIfcCartesianTransformationOperator3D(None, None, f.createIfcCartesianPoint((0.0, 0.0, 0.0)),
