@@ -39,8 +39,11 @@ Rules (DEVELOPERS.md quotes this block):
 Over the height (:func:`find_systems_by_storey`) storeys are taken bottom up; each
 system is matched to a system of the storey below by the largest plan overlap (then to
 one seen further down, if it reappears), so ``core-1`` is the same core on every floor.
-Ids are numbered by first appearance, the largest plan area first: ``core-<n>`` for
-cores, ``wall-<n>`` for separate walls; an id keeps its name if the system changes kind.
+Ids are ``core-<n>`` for cores and ``wall-<n>`` for separate walls, the prefix taken from
+the kind at the lowest above-grade storey where the system stands (a system that changes
+kind keeps its one id). Numbering: systems standing above grade first, in the order of
+the storey where they start above grade, then by plan area (largest first); systems
+found only below grade last.
 A wall taller than its storey (its body spans the mid-height of another storey) also
 counts on that storey. Warnings report systems that stop, appear, reappear, merge or
 split, walls below that are not continued above (more than :data:`STOP_MIN_LENGTH_M` and
@@ -52,6 +55,7 @@ Systems that end at the top of the building (no storey above has any) are not re
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
@@ -490,17 +494,19 @@ def find_systems_by_storey(
             body spans its mid-height.
 
     Returns:
-        (storey GlobalId -> its systems, one :class:`~swayscreen.pipeline.stick.CoreSummary`
-        per distinct system in order of first appearance (section, closed and note at the
-        lowest above-grade storey where it exists, else the lowest), warnings).
+        (storey GlobalId -> its systems (largest plan first), one
+        :class:`~swayscreen.pipeline.stick.CoreSummary` per distinct system, cores then
+        walls by number (section, closed and note at the lowest above-grade storey where
+        it stands, else the lowest), warnings).
     """
     order = sorted(storeys, key=lambda s: s.elevation_m)
     owned = [(s, w) for s in order for w in s.walls]
     by_storey: dict[str, list[SystemSection]] = {}
     warnings: list[str] = []
-    counters = {"core": 0, "wall": 0}
+    # provisional ids are tokens "\x00<n>\x00", renamed once all storeys are matched
+    n_ids = 0
     history: dict[str, tuple[int, SystemSection]] = {}  # id -> (storey index, last system)
-    ref: dict[str, tuple[bool, SystemSection]] = {}  # id -> (above grade, system for the summary)
+    ref: dict[str, tuple[bool, int, SystemSection]] = {}  # id -> (above grade, storey index, system)
     walls_of: dict[str, list[str]] = {}
     first_seen: list[str] = []
     wall_index: dict[int, dict[str, Wall]] = {}
@@ -561,8 +567,8 @@ def find_systems_by_storey(
                     last_k = history[sid][0]
                     warnings.append(f"{where}: {sid} reappears (last seen on storey {order[last_k].name!r})")
             else:
-                counters[new.kind] += 1
-                sid = f"{new.kind}-{counters[new.kind]}"
+                sid = f"\x00{n_ids}\x00"
+                n_ids += 1
                 if k > 0:
                     warnings.append(f"{where}: new {new.kind} {sid} appears (walls {', '.join(new.wall_ids)}) with nothing below it")
             renamed.append(replace(new, system_id=sid))
@@ -613,17 +619,36 @@ def find_systems_by_storey(
                 first_seen.append(s.system_id)
             walls_of[s.system_id] += [g for g in s.wall_ids if g not in walls_of[s.system_id]]
             if s.system_id not in ref or (st.above_grade and not ref[s.system_id][0]):
-                ref[s.system_id] = (st.above_grade, s)
+                ref[s.system_id] = (st.above_grade, k, s)
         by_storey[st.global_id] = renamed
         prev = renamed
+    # final names: systems standing above grade first, by the storey where they start
+    # there, then by plan area; the prefix is the kind at that storey
+    def order_key(sid: str) -> tuple:
+        above, k, sys_ = ref[sid]
+        cx, cy = sys_.section.centroid_m
+        return (0 if above else 1, k, -sys_.plan.area, round(cx, 6), round(cy, 6), sid)
+
+    counters = {"core": 0, "wall": 0}
+    final: dict[str, str] = {}
+    for sid in sorted(first_seen, key=order_key):
+        kind = ref[sid][2].kind
+        counters[kind] += 1
+        final[sid] = f"{kind}-{counters[kind]}"
+    token = re.compile("\x00\\d+\x00")
+
+    def name(text: str) -> str:
+        return token.sub(lambda m: final[m.group(0)], text)
+
+    by_storey = {gid: [replace(s, system_id=final[s.system_id]) for s in systems] for gid, systems in by_storey.items()}
     summaries = [
         CoreSummary(
-            id=sid,
+            id=final[sid],
             wall_ids=tuple(walls_of[sid]),
-            closed=ref[sid][1].closed,
-            section=ref[sid][1].section,
-            note=ref[sid][1].note,
+            closed=ref[sid][2].closed,
+            section=ref[sid][2].section,
+            note=ref[sid][2].note,
         )
-        for sid in first_seen
+        for sid in sorted(first_seen, key=lambda x: (final[x].split("-")[0] != "core", int(final[x].split("-")[1])))
     ]
-    return by_storey, summaries, warnings
+    return by_storey, summaries, [name(w) for w in warnings]

@@ -392,3 +392,17 @@ def test_storeys_without_lateral_walls_are_reported():
         "4 wall(s) flagged LoadBearing = false on 1 storey(s) left out of the lateral system",
         "storey 'Level 1': none of its 4 wall(s) is in the lateral system (non-load-bearing, partitions or unusable)",
     ]
+
+
+def test_systems_standing_above_grade_are_numbered_first():
+    # a basement with a large retaining-wall ring (bigger plan than the core) and the core:
+    # the core, which stands above grade, is core-1; the ring is core-2 and stops at ground
+    ring = [wall(f"R{k}", a, b, z=-H) for k, (a, b) in enumerate(
+        [((-10.15, -10.0), (20.15, -10.0)), ((-10.15, 20.0), (20.15, 20.0)),
+         ((-10.0, -9.85), (-10.0, 19.85)), ((20.0, -9.85), (20.0, 19.85))])]
+    basement = Storey("GB", "Basement", -H, H, False, walls=tuple(ring + box_walls("B", z=-H)))
+    by, summaries, warnings = find_systems_by_storey([basement, storey(0, box_walls("0"))], AUTO)
+    assert [(s.system_id, s.wall_ids[0]) for s in by["GB"]] == [("core-2", "R0"), ("core-1", "EB")]
+    assert [(s.system_id, s.wall_ids[0]) for s in by["G0"]] == [("core-1", "E0")]
+    assert [s.id for s in summaries] == ["core-1", "core-2"]
+    assert warnings == ["storey 'Level 0': core-2 stops (walls R0, R1, R2, R3 below are not continued)"]
