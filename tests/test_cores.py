@@ -16,7 +16,7 @@ from dataclasses import replace
 
 import pytest
 from hypothesis import given, settings, strategies as st
-from shapely.geometry import LineString
+from shapely.geometry import LineString, Polygon, box
 
 from swayscreen.pipeline.core_settings import StiffnessSettings
 from swayscreen.pipeline.cores import (
@@ -313,8 +313,6 @@ def test_systems_that_merge_are_reported():
 def test_walls_with_missing_axis_or_footprint():
     # axis missing (zero length): taken from the footprint's rectangle; footprint missing:
     # built from the axis; neither: left out with a warning naming the wall
-    from shapely.geometry import Polygon, box
-
     no_axis = Wall("A", "A", ((0.0, 0.0), (0.0, 0.0)), 0.0, 0.0, H, 0.0, box(0.0, -0.15, 5.0, 0.15))
     no_print = Wall("B", "B", ((10.0, 0.0), (15.0, 0.0)), 5.0, 0.3, H, 0.0, Polygon())
     nothing = Wall("C", "C", ((20.0, 0.0), (20.0, 0.0)), 0.0, 0.0, H, 0.0, Polygon())

@@ -18,7 +18,6 @@ from __future__ import annotations
 import math
 
 import pytest
-import shapely
 from hypothesis import given, settings, strategies as st
 from shapely import affinity
 from shapely.geometry import LineString, MultiPolygon, Polygon, box
