@@ -56,7 +56,7 @@ def cmd_takeoff(args) -> int:
 
     settings = load_settings(args.settings, settings_sections(discover()))
     takeoff = read_model(args.model, settings["levels"])
-    derived = [derive_stick(b, settings) for b in takeoff.buildings]
+    derived = [derive_stick(b, settings, true_north_deg=takeoff.true_north_deg) for b in takeoff.buildings]
     requirements = None
     if args.requirements:
         from .requirements import check_requirements

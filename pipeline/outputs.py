@@ -156,7 +156,7 @@ def bcf_topics(run) -> list:
             desc = (f"{c.criterion} by {c.method}: {c.value:.3g} {c.unit} against a limit of {c.limit:.3g} {c.unit} "
                     f"(ratio {c.ratio:.2f}){where}{wind}{rp}. {c.note} "
                     f"{CAUTION.replace(chr(10), ' ')}").strip()
-            topics.append(BcfTopic(f"Sway screening: {c.criterion} exceeded", desc, tuple(ids),
+            topics.append(BcfTopic(f"Sway screening: {c.criterion} exceeded ({c.method})", desc, tuple(ids),
                                    labels=("swayscreen", "wind comfort" if c.unit == "mg" else "drift")))
         if b.assessment.status == "incomplete":
             topics.append(BcfTopic("Sway screening: results missing", "; ".join(b.assessment.reasons),

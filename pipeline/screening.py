@@ -79,11 +79,12 @@ def load_plugins_and_settings(settings_path: str | Path | None, plugins: Sequenc
     return ordered, load_settings(settings_path, sections)
 
 
-def screen_building(building: BuildingTakeoff, settings: Settings, plugins: Sequence[Any]) -> BuildingScreening:
+def screen_building(building: BuildingTakeoff, settings: Settings, plugins: Sequence[Any], *,
+                    true_north_deg: float = 0.0) -> BuildingScreening:
     """Derive the stick model of one building and run the ordered plugins over it."""
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
-    derived = derive_stick(building, settings)
+    derived = derive_stick(building, settings, true_north_deg=true_north_deg)
     timings["derive"] = time.perf_counter() - t0
     ctx = Context(derived.stick, building, settings)
     results: dict[str, Any] = {}
@@ -152,7 +153,8 @@ def screen_file(
     t0 = time.perf_counter()
     takeoff = read_model(path, settings["levels"])
     timings["read"] = time.perf_counter() - t0
-    buildings = tuple(screen_building(b, settings, ordered) for b in takeoff.buildings)
+    buildings = tuple(screen_building(b, settings, ordered, true_north_deg=takeoff.true_north_deg)
+                      for b in takeoff.buildings)
     return ScreeningRun(takeoff, settings, buildings, tuple(ordered), timings)
 
 

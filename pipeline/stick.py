@@ -65,6 +65,8 @@ class SectionProps:
         j_m4: St Venant / Bredt-Batho torsion constant.
         shear_centre_m: (x, y); the centroid for closed or doubly symmetric sections.
         closed: True when at least one closed cell acts closed (Bredt-Batho).
+        cw_m6: warping constant C_w about the shear centre (open sections; 0 when unknown
+            or negligible, e.g. closed cells).
     """
 
     area_m2: float
@@ -78,6 +80,7 @@ class SectionProps:
     j_m4: float
     shear_centre_m: tuple[float, float]
     closed: bool = False
+    cw_m6: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -98,6 +101,7 @@ class Segment:
             zero for frames.
         ga_x_n, ga_y_n: effective shear stiffness G A_s in x and y (N); zero for frames.
         gj_nm2: torsional stiffness G J (N m^2).
+        ecw_nm4: warping stiffness E C_w (N m^4) of an open core (Vlasov torsion; 0 = St Venant only).
         k_x_n_m, k_y_n_m: storey shear springs (N/m) (frames; zero for cantilevers).
         k_twist_nm_rad: storey torsional spring about ``centre_m`` (N m/rad) (frames).
         section: the gross section constants (cantilevers), for reporting.
@@ -114,6 +118,7 @@ class Segment:
     ga_x_n: float = 0.0
     ga_y_n: float = 0.0
     gj_nm2: float = 0.0
+    ecw_nm4: float = 0.0
     k_x_n_m: float = 0.0
     k_y_n_m: float = 0.0
     k_twist_nm_rad: float = 0.0
