@@ -20,8 +20,9 @@ Conventions (plan x/y in metres):
   the larger second moment), in (-pi/2, pi/2].
 
 Thin-walled rules (standard thin-walled beam theory, e.g. Megson, *Aircraft
-Structures*, ch. 16-18; Timoshenko & Goodier, *Theory of Elasticity*, torsion of
-thin-walled sections; formulas as in /work/shared/reference/methods.md section 9):
+Structures*, the chapters on open and closed thin-walled beams; Timoshenko & Goodier,
+*Theory of Elasticity*, torsion of thin-walled sections; both from memory; the formulas
+as in /work/shared/reference/methods.md section 9):
 
 * Second moments of the centre-line model are line integrals along the centre line
   times thickness; the own through-thickness terms (L t^3/12) and the overlap of the
@@ -37,8 +38,8 @@ thin-walled sections; formulas as in /work/shared/reference/methods.md section 9
   is below 0.3 % of the Bredt term for a storey-sized core: 0.252 against 98.7 m^4 for
   the 8 x 6 m box of methods.md section 9). With ``free_end_correction=True`` each free
   end of an open wall subtracts 0.105 t^4, which turns a single rectangle into the
-  refined ``(b t^3/3)(1 - 0.63 t/b)`` (methods.md section 9 [MEM; DER]); junctions
-  take no correction, and no piece drops below 0.1406 a b^3 (the square's value, for
+  refined ``(b t^3/3)(1 - 0.63 t/b)`` (methods.md section 9 [MEM; DER]); the ends at
+  a cut (see :class:`WallSegment`) are free ends too; junctions take no correction, and no piece drops below 0.1406 a b^3 (the square's value, for
   pieces shorter than twice their thickness).
 * Shear areas: every wall element counts with ``L t cos^2(theta)`` for shear in x and
   ``L t sin^2(theta)`` for shear in y, theta its angle to x (the "web area" rule:
@@ -568,6 +569,8 @@ def _shear_centre(xy: np.ndarray, a: np.ndarray, b: np.ndarray, t: np.ndarray, e
         results.append((fx, fy, mz))
     (fx1, fy1, m1), (fx2, fy2, m2) = results
     basis = np.array([[fx1, fx2], [fy1, fy2]])
+    if not abs(np.linalg.det(basis)) > 1e-12 * max(float(np.abs(basis).max()), 1e-300) ** 2:
+        return None
     # combination giving a unit force in y, then in x
     ay = np.linalg.solve(basis, [0.0, 1.0])
     ax = np.linalg.solve(basis, [1.0, 0.0])
