@@ -888,9 +888,9 @@ def write_annotated_reserialise(
         props = {}
         for prop in ann.props:
             nominal, description = _python_value(model, leaves, prop, fallbacks, where)
-            props[prop.name] = model.create_entity(
-                "IfcPropertySingleValue", Name=prop.name, Description=description or None, NominalValue=nominal
-            )
+            single = model.create_entity("IfcPropertySingleValue", Name=prop.name, NominalValue=nominal)
+            single[1] = description or None  # Description (Specification in IFC4X3)
+            props[prop.name] = single
         # Property instances are passed whole: edit_pset keeps them as they are (booleans included).
         ifcopenshell.api.pset.edit_pset(model, pset=pset, properties=props)
         n_props += len(props)

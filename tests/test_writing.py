@@ -180,7 +180,7 @@ def check_round_trip(src: Path, dst: Path, anns: list[PsetAnnotation]) -> None:
                 assert value == pytest.approx(expected, rel=1e-12)  # one division by a unit scale
             else:
                 assert value == expected and type(value) is type(expected)
-            assert (stored.Description or "") == prop.description
+            assert (stored[1] or "") == prop.description  # Description (Specification in IFC4X3)
 
 
 # --------------------------------------------------------------------------- fixtures
@@ -227,7 +227,11 @@ def build_model(schema: str, length_prefix: str | None) -> ifcopenshell.file:
 def models(tmp_path_factory) -> dict[str, Path]:
     root = tmp_path_factory.mktemp("fixtures")
     out = {}
-    for name, schema, prefix in (("ifc4_mm", "IFC4", "MILLI"), ("ifc2x3_m", "IFC2X3", None)):
+    for name, schema, prefix in (
+        ("ifc4_mm", "IFC4", "MILLI"),
+        ("ifc2x3_m", "IFC2X3", None),
+        ("ifc4x3_m", "IFC4X3_ADD2", None),
+    ):
         path = root / f"{name}.ifc"
         build_model(schema, prefix).write(str(path))
         os.chmod(path, 0o444)  # the writer must never need to touch its source
@@ -235,7 +239,7 @@ def models(tmp_path_factory) -> dict[str, Path]:
     return out
 
 
-FIXTURES = ["ifc4_mm", "ifc2x3_m"]
+FIXTURES = ["ifc4_mm", "ifc2x3_m", "ifc4x3_m"]
 
 
 # --------------------------------------------------------------------------- ISO 10303-21 values
@@ -649,6 +653,27 @@ def test_ifc2x3_without_owner_history_gets_one(models, tmp_path):
     second = tmp_path / "second.ifc"
     write_annotated(dst, second, anns)
     assert second.read_bytes() == dst.read_bytes()  # the created owner history is reused
+
+
+@pytest.mark.parametrize("writer", [write_annotated, write_annotated_reserialise])
+def test_measure_missing_from_schema_falls_back_to_real(models, tmp_path, monkeypatch, writer):
+    """Our documented rule: a measure the schema's IfcValue select lacks is written as IfcReal in
+    SI, with the unit in the Description. (Every measure we use exists in IFC2X3, IFC4 and
+    IFC4X3 as ifcopenshell ships them, so the lack is simulated.)"""
+    real = writing._value_leaves
+    monkeypatch.setattr(writing, "_value_leaves", lambda schema: real(schema) - {"IfcAccelerationMeasure"})
+    src = models["ifc4_mm"]
+    building, _ = building_and_storeys(src)
+    ann = PsetAnnotation(
+        building, "Swayscreen_BuildingSway", (Prop("PeakAcceleration", 0.049, "IfcAccelerationMeasure", "10-year"),)
+    )
+    report = writer(src, tmp_path / "o.ifc", [ann])
+    assert len(report.fallbacks) == 1 and "IfcAccelerationMeasure" in report.fallbacks[0]
+    model = ifcopenshell.open(str(tmp_path / "o.ifc"))
+    pset = ifcopenshell.util.element.get_psets(model.by_guid(building), psets_only=True)["Swayscreen_BuildingSway"]
+    prop = model.by_id(pset["id"]).HasProperties[0]
+    assert prop.NominalValue.is_a() == "IfcReal" and prop.NominalValue.wrappedValue == 0.049
+    assert prop[1] == "10-year [unit: m/s2]"
 
 
 def test_deterministic_global_ids(models, tmp_path):
