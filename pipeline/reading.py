@@ -665,7 +665,8 @@ class _Reader:
                                     self._usage(s)) for s in ss]
             els = per_bld[bid]
             try:
-                fr = build_storeys(sources, els["slabs"], els["walls"], els["columns"], self.levels, bname)
+                label = bname or (attr(b, "GlobalId") if b is not None else "")
+                fr = build_storeys(sources, els["slabs"], els["walls"], els["columns"], self.levels, label)
             except InputError as exc:
                 raise InputError(f"{self.where}: {exc}") from None
             results.append(BuildingTakeoff(global_id=b.GlobalId if b is not None else "", name=bname,

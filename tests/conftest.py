@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import contextlib
 import math
+import os
 from pathlib import Path
 from typing import Iterator, Sequence
 
@@ -34,10 +35,13 @@ def shared_samples() -> Path:
 
 @pytest.fixture(scope="session")
 def sample_models() -> Path:
-    """The generated sample buildings (skip when not generated yet)."""
-    if not any(SAMPLE_MODELS.glob("*.ifc")):
-        pytest.skip(f"no generated sample IFC files in {SAMPLE_MODELS}")
-    return SAMPLE_MODELS
+    """The generated sample buildings with their specs.json (skip when not generated yet).
+
+    ``SWAYSCREEN_SAMPLE_MODELS`` may point at another folder of generator output."""
+    folder = Path(os.environ.get("SWAYSCREEN_SAMPLE_MODELS", SAMPLE_MODELS))
+    if not any(folder.glob("*.ifc")) or not (folder / "specs.json").is_file():
+        pytest.skip(f"no generated sample IFC files with specs.json in {folder}")
+    return folder
 
 
 # ---------------------------------------------------------------------------- the builder
