@@ -252,6 +252,14 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
                        + " cannot resist twist (a single column or systems with no torsional stiffness at one "
                        "point), so no stick model")
         return done(None, restraint)
+    if restraint:
+        lo = min(min(r.a_x_min, r.a_y_min) for r in restraint)
+        hi = max(max(r.a_x_max, r.a_y_max) for r in restraint)
+        mean = sum(r.n_columns * (r.a_x_mean + r.a_y_mean) / 2 for r in restraint) / sum(r.n_columns for r in restraint)
+        methods = sorted({r.method for r in restraint})
+        warnings.append(f"column end restraint ({', '.join(methods)}): a = {lo:.2f}-{hi:.2f}, mean {mean:.2f}, "
+                        f"over {len(restraint)} storey(s) (1 = fixed-fixed; set [stiffness] column_restraint_factor "
+                        "to override)")
     for segs in per_level:
         segments.extend(segs)
     centres = []

@@ -155,6 +155,8 @@ def test_fixed_fixed_columns() -> None:
         # k_twist = sum k (r^2) about the centre (each column in both directions)
         assert seg.k_twist_nm_rad == pytest.approx(k1 * sum((x - 20) ** 2 + (y - 20) ** 2 for x, y in GRID), rel=1e-9)
     assert all(r.method == "settings" and r.a_x_mean == 1.0 for r in d.column_restraint)
+    assert any(w.startswith("column end restraint (settings): a = 1.00-1.00, mean 1.00, over 4 storey(s)")
+               for w in d.warnings)
     # storey height instead of clear height
     s2 = s.replace("stiffness", column_restraint_factor=1.0, column_clear_height=False)
     seg2 = derive_stick(tower(4, core=False, columns=GRID), s2).stick.segments[0]
