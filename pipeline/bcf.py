@@ -14,8 +14,9 @@ Version 2.1 is written because it is the one most BCF-capable applications read.
     object the topic is about (the building, a storey ...), with ``Visibility DefaultVisibility="true"``.
 
 No camera or snapshot is written: the screening has no view to offer, and both are optional in
-the 2.1 schema. Topic and viewpoint GUIDs are ``uuid5`` of the title and the object GlobalIds, and
-the creation date is a parameter, so the same input gives the same archive byte for byte.
+the 2.1 schema. Topic and viewpoint GUIDs are ``uuid5`` of the title and the object GlobalIds
+(a repeated title and object list gets an occurrence number), and the creation date is a
+parameter, so the same input gives the same archive byte for byte.
 """
 from __future__ import annotations
 
@@ -32,7 +33,7 @@ from pathlib import Path
 from .errors import InputError
 from .fileio import atomic_write_bytes
 
-__all__ = ["BcfTopic", "BCF_VERSION", "write_bcfzip", "topic_guid"]
+__all__ = ["BcfTopic", "BCF_VERSION", "write_bcfzip", "topic_guid", "topic_guids"]
 
 BCF_VERSION = "2.1"
 _NAMESPACE = uuid.uuid5(uuid.NAMESPACE_URL, "urn:swayscreen:bcf-topics")
@@ -53,9 +54,25 @@ class BcfTopic:
     topic_type: str = "Issue"
 
 
-def topic_guid(topic: BcfTopic) -> str:
-    """The topic's GUID: ``uuid5`` of its title and object GlobalIds (stable across runs)."""
-    return str(uuid.uuid5(_NAMESPACE, "\x1f".join((topic.title, *topic.global_ids))))
+def topic_guid(topic: BcfTopic, occurrence: int = 0) -> str:
+    """The topic's GUID: ``uuid5`` of its title and object GlobalIds (stable across runs).
+
+    Topics with the same title and objects (say, one flag per return period) are told apart by
+    their ``occurrence`` (0 for the first, 1 for the next ...), counted in the order given.
+    """
+    key = "\x1f".join((topic.title, *topic.global_ids)) + (f"\x1e{occurrence}" if occurrence else "")
+    return str(uuid.uuid5(_NAMESPACE, key))
+
+
+def topic_guids(topics: Sequence[BcfTopic]) -> tuple[str, ...]:
+    """GUIDs of ``topics`` in order, as :func:`write_bcfzip` assigns them."""
+    counts: dict[str, int] = {}
+    out = []
+    for topic in topics:
+        base = topic_guid(topic)
+        out.append(topic_guid(topic, counts.get(base, 0)))
+        counts[base] = counts.get(base, 0) + 1
+    return tuple(out)
 
 
 def _viewpoint_guid(tguid: str) -> str:
@@ -133,7 +150,6 @@ def _check(topics: Sequence[BcfTopic], project_name: str, author: str) -> None:
         raise InputError("BCF: the project name is empty")
     if not author.strip():
         raise InputError("BCF: the author is empty")
-    seen: dict[str, str] = {}
     for topic in topics:
         if not topic.title.strip():
             raise InputError("BCF: a topic has an empty title")
@@ -144,10 +160,6 @@ def _check(topics: Sequence[BcfTopic], project_name: str, author: str) -> None:
                 raise InputError(f"BCF topic {topic.title!r}: {gid!r} is not an IFC GlobalId (22 characters)")
         if len(set(topic.global_ids)) != len(topic.global_ids):
             raise InputError(f"BCF topic {topic.title!r}: a GlobalId is listed twice")
-        g = topic_guid(topic)
-        if g in seen:
-            raise InputError(f"BCF topic {topic.title!r}: given twice (same title and objects)")
-        seen[g] = topic.title
 
 
 def write_bcfzip(
@@ -171,10 +183,8 @@ def write_bcfzip(
     stamp = max(when_dt.timetuple()[:6], (1980, 1, 1, 0, 0, 0))  # zip dates start in 1980
 
     entries: list[tuple[str, bytes]] = [("bcf.version", _version_xml()), ("project.bcfp", _project_xml(project_name))]
-    guids: list[str] = []
-    for index, topic in enumerate(topics):
-        g = topic_guid(topic)
-        guids.append(g)
+    guids = topic_guids(topics)
+    for index, (topic, g) in enumerate(zip(topics, guids)):
         entries.append((f"{g}/markup.bcf", _markup_xml(topic, index, g, author, when, status)))
         if topic.global_ids:
             entries.append((f"{g}/viewpoint.bcfv", _viewpoint_xml(topic, g)))
@@ -187,4 +197,4 @@ def write_bcfzip(
             info.external_attr = 0o644 << 16
             zf.writestr(info, data)
     atomic_write_bytes(path, buf.getvalue())
-    return tuple(guids)
+    return guids

@@ -29,7 +29,7 @@ from xsdata.formats.dataclass.parsers import XmlParser
 from xsdata.formats.dataclass.parsers.config import ParserConfig
 
 from swayscreen.pipeline import bcf as bcf_writer
-from swayscreen.pipeline.bcf import BCF_VERSION, BcfTopic, topic_guid, write_bcfzip
+from swayscreen.pipeline.bcf import BCF_VERSION, BcfTopic, topic_guid, topic_guids, write_bcfzip
 from swayscreen.pipeline.errors import InputError
 
 DATE = datetime(2031, 3, 14, 9, 26, 53, tzinfo=timezone.utc)
@@ -231,7 +231,6 @@ def test_text_is_escaped_and_cleaned(tmp_path):
         [BcfTopic("t", "d", ("0" * 22, "0" * 22))],
         [BcfTopic(" ", "d", ())],
         [BcfTopic("t", "d", (), topic_type="")],
-        [BcfTopic("same", "a", ()), BcfTopic("same", "b", ())],
     ],
 )
 def test_bad_topics_rejected(tmp_path, bad):
@@ -239,6 +238,18 @@ def test_bad_topics_rejected(tmp_path, bad):
     with pytest.raises(InputError):
         write_bcfzip(path, bad, project_name="P", date=DATE)
     assert not path.exists()
+
+
+def test_repeated_title_and_objects_get_distinct_topics(tmp_path, topics):
+    """Two flags with the same title on the same objects (e.g. two return periods) are two topics."""
+    twins = [BcfTopic("Drift", "1-year", topics[0].global_ids), BcfTopic("Drift", "10-year", topics[0].global_ids)]
+    path = tmp_path / "twins.bcfzip"
+    guids = write_bcfzip(path, [*twins, twins[0]], project_name="P", date=DATE)
+    assert len(set(guids)) == 3
+    assert guids[0] == topic_guid(twins[0])  # the first keeps the plain uuid5
+    assert guids == topic_guids([*twins, twins[0]])
+    with BcfXml(path) as archive:
+        assert sorted(h.topic.description for h in archive.topics.values()) == ["1-year", "1-year", "10-year"]
 
 
 def test_empty_names_rejected(tmp_path, topics):
