@@ -28,6 +28,7 @@ The rule (a storey's elevation is its floor):
 from __future__ import annotations
 
 import bisect
+import math
 from dataclasses import dataclass
 
 from .core_settings import LevelSettings
@@ -164,12 +165,15 @@ def plan_floors(building: BuildingTakeoff, levels: LevelSettings) -> FloorLayout
                          "treated as one floor")
     base = groups[0][0].elevation_m
 
-    thin = ground = 0
+    thin = ground = bad = 0
     candidates: list[Slab] = []
     loose: list[Slab] = []
     for s in above:
         for sl in s.slabs:
-            if sl.thickness_m < levels.min_slab_thickness_m:
+            if not (math.isfinite(sl.thickness_m) and math.isfinite(sl.top_elevation_m)
+                    and sl.footprint is not None and not sl.footprint.is_empty):
+                bad += 1
+            elif not sl.thickness_m >= levels.min_slab_thickness_m:
                 thin += 1
             elif sl.top_elevation_m <= base + tol:
                 ground += 1
@@ -177,6 +181,8 @@ def plan_floors(building: BuildingTakeoff, levels: LevelSettings) -> FloorLayout
                 loose.append(sl)
             else:
                 candidates.append(sl)
+    if bad:
+        notes.append(f"{bad} slab(s) with no usable thickness, elevation or outline left out")
     if thin:
         notes.append(f"{thin} slab(s) thinner than {levels.min_slab_thickness_m:g} m treated as finishes "
                      "(covered by the superimposed dead load)")

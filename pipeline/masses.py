@@ -40,6 +40,7 @@ gross area the convex hull of the walls' and columns' footprints of the storey b
 """
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -132,6 +133,10 @@ def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
     return ((minx + maxx) / 2, (miny + maxy) / 2)
 
 
+def _finite(*values: float) -> bool:
+    return all(math.isfinite(v) for v in values)
+
+
 def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
               warnings: list[str]) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
     nodes = layout.nodes_m
@@ -146,7 +151,8 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             partitions.append(w.plan_area_m2 * w.height_m)
             continue
         mat = book.get(w.material, "walls")
-        if w.height_m <= 0 or w.footprint is None or w.footprint.is_empty or w.footprint.area <= 0:
+        if not (_finite(w.height_m, w.base_elevation_m) and w.height_m > 0 and w.footprint is not None
+                and not w.footprint.is_empty and w.footprint.area > 0):
             skipped += 1
             continue
         m = w.footprint.area * w.height_m * mat.density_kg_m3
@@ -155,6 +161,8 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             if f:
                 walls[i].add_moments(m * f, mom)
         for op in w.openings:
+            if not _finite(op.start_m, op.end_m, op.sill_m, op.head_m):
+                continue
             hole = opening_footprint(w, op.start_m, op.end_m)
             sill, head = max(0.0, op.sill_m), min(w.height_m, op.head_m)
             if hole is None or head <= sill:
@@ -166,7 +174,8 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
                     walls[i].add_area(-mh * f, hole)
     for c in layout.columns:
         mat = book.get(c.material, "columns")
-        if c.height_m <= 0 or c.section is None or c.section.is_empty or c.section.area <= 0:
+        if not (_finite(c.height_m, c.base_elevation_m) and c.height_m > 0 and c.section is not None
+                and not c.section.is_empty and c.section.area > 0):
             skipped += 1
             continue
         m = c.section.area * c.height_m * mat.density_kg_m3

@@ -424,3 +424,24 @@ def test_parapets_on_a_roof_storey_lump_to_the_roof() -> None:
     assert [f.elevation_m for f in layout.floors] == [3.5, 7.0, 10.5, 14.0]
     extra = dict(levels[-1].components_kg)["walls"] - dict(ref[-1].components_kg)["walls"]
     assert extra == pytest.approx(parapet.footprint.area * 1.2 * 25 * KN)
+
+
+def test_unusable_values_do_not_poison_the_masses() -> None:
+    # Not-a-number thickness, heights or opening positions (bad exports) are left out, never propagated.
+    nan = float("nan")
+    b = example_building()
+    st1 = b.storeys[1]
+    w0 = st1.walls[0]
+    bad_wall = Wall("BADW", "bad", w0.axis_m, w0.length_m, w0.thickness_m, nan, w0.base_elevation_m, w0.footprint,
+                    (), True, CONCRETE)
+    odd_open = Wall(w0.global_id, w0.name, w0.axis_m, w0.length_m, w0.thickness_m, w0.height_m, w0.base_elevation_m,
+                    w0.footprint, (WallOpening(nan, 2.0, 0.0, nan),), True, CONCRETE)
+    bad_slab = slab("BADS", box(0, 0, 5, 5), nan, 3.5)
+    st1b = Storey(st1.global_id, st1.name, st1.elevation_m, st1.height_m, True, st1.slabs + (bad_slab,),
+                  (odd_open, bad_wall) + st1.walls[1:], st1.columns)
+    layout, levels, warnings = masses_of(BuildingTakeoff("B1", "Example", (b.storeys[0], st1b) + b.storeys[2:]))
+    _, ref, _ = masses_of(b)
+    assert [lv.mass_kg for lv in levels] == pytest.approx([lv.mass_kg for lv in ref], rel=1e-12)
+    assert all(math.isfinite(lv.polar_moment_kg_m2) for lv in levels)
+    assert any("no usable thickness" in n for n in layout.notes)
+    assert any("carry no mass" in w for w in warnings)
