@@ -268,8 +268,10 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
         centres.append(c if c is not None else levels[j].mass_centre_m)
 
     total = sum(lv.mass_kg for lv in levels)
-    origin = (sum(lv.mass_kg * lv.mass_centre_m[0] for lv in levels) / total,
-              sum(lv.mass_kg * lv.mass_centre_m[1] for lv in levels) / total)
+    origin = (0.0, 0.0)
+    if total > 0:
+        origin = (sum(lv.mass_kg * lv.mass_centre_m[0] for lv in levels) / total,
+                  sum(lv.mass_kg * lv.mass_centre_m[1] for lv in levels) / total)
     stick = StickModel(
         building_id=building.global_id, building_name=building.name,
         base_elevation_m=float(layout.base_elevation_m or 0.0), levels=levels, segments=tuple(segments),
