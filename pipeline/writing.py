@@ -11,6 +11,14 @@ Two writers give the same property values:
   ``ifcopenshell.api.pset`` and re-serialise everything with ``file.write`` (about four times the
   cost of the open). Kept as the benchmark baseline and as a cross-check in the tests.
 
+How the streamed copy finds its way (ISO 10303-21 syntax): a statement ends at the first ``;``
+outside a string (``'...'``, apostrophes doubled inside) and outside a comment (``/* */``); one
+statement may span many lines. When nothing is to be removed and the file has no comment, the
+insertion point is found from the end (the last ``ENDSEC;`` that starts a statement, with an even
+number of apostrophes before it, after a ``DATA`` statement) and the bytes around it are copied
+with C-level slices; otherwise every statement is matched in turn (one regular expression per
+statement, read in 4 MiB blocks) so that the instances to remove can be dropped by ``#id``.
+
 What is written, per :class:`PsetAnnotation`: one ``IfcPropertySet`` holding one
 ``IfcPropertySingleValue`` per :class:`Prop` with a typed ``NominalValue`` (e.g.
 ``IFCTIMEMEASURE(2.5)``), and one ``IfcRelDefinesByProperties`` tying it to the object with that
@@ -377,9 +385,15 @@ def _candidate_sets(src: Path, prefix: str, model) -> list | None:
     owner,'prefix...`` head; if every occurrence is explained that way and ifcopenshell confirms
     each name, the list is complete without reading every property set of the model.
     """
+    # ISO 10303-21 writes characters of the basic alphabet directly (the \\X escapes are for
+    # the others; from memory), so an ASCII prefix appears literally in the file.
     needle = b"'" + prefix.encode("ascii")
     head = re.compile(rb"#(\d+)\s*=\s*IFCPROPERTYSET\s*\(\s*'[^']*'\s*,\s*(?:\$|#\d+)\s*,\s*\Z", re.I)
-    with open(src, "rb") as fh, mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+    with open(src, "rb") as fh:
+        if os.fstat(fh.fileno()).st_size == 0:
+            return None
+        mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
+    with mm:
         found = []
         at = mm.find(needle)
         while at >= 0:

@@ -386,6 +386,15 @@ def test_only_our_prefix_is_removed(models, tmp_path):
     foreign.HasProperties = [shared]
     src = tmp_path / "mixed.ifc"
     f.write(str(src))
+    # our sets are found from the raw bytes (each 'Swayscreen_ traced to an IFCPROPERTYSET head)
+    assert [p.Name for p in writing._candidate_sets(src, "Swayscreen_", ifcopenshell.open(str(src)))] == [
+        "Swayscreen_Old"
+    ]
+    # a text that quotes our prefix cannot be traced: the full scan of every set takes over
+    memo = ifcopenshell.api.pset.add_pset(f, product=building, name="Office_Notes")
+    ifcopenshell.api.pset.edit_pset(f, pset=memo, properties={"Memo": "from 'Swayscreen_Old'"})
+    f.write(str(src))
+    assert writing._candidate_sets(src, "Swayscreen_", ifcopenshell.open(str(src))) is None
     dst = tmp_path / "out.ifc"
     report = write_annotated(src, dst, [])
     assert report.psets_replaced == 1
@@ -395,6 +404,7 @@ def test_only_our_prefix_is_removed(models, tmp_path):
     assert "Swayscreen_Old" not in psets
     assert psets["SwayscreenNotes"]["Memo"] == "keep"
     assert psets["Office_Data"]["Stale"] == 1.0
+    assert psets["Office_Notes"]["Memo"] == "from 'Swayscreen_Old'"
     assert validate_output(dst) == []
 
 
