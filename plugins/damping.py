@@ -201,6 +201,18 @@ class CheckAdvice:
     frequency_required_hz: float | None
     stiffness_factor: float | None
     note: str = ""
+    curve_mg: tuple[tuple[float, float], ...] = ()
+    """(added damping ratio beyond zeta_current, check value in mg) from the response model."""
+
+
+@dataclass(frozen=True)
+class DampingCurve:
+    """The governing check's value against added damping, for the report's plot."""
+
+    label: str
+    points: tuple[tuple[float, float], ...]
+    limit_mg: float
+    proposed_added_damping: float | None
 
 
 @dataclass(frozen=True)
@@ -326,6 +338,122 @@ class DampingAdvice:
     tanks: TankAdvice | None = None
     loops: tuple[ClosedLoop, ...] = ()
     notes: tuple[str, ...] = ()
+
+    # ----- presentation (terminal, report, write-back) -----------------------------------
+    @property
+    def governing(self) -> CheckAdvice | None:
+        """The advised check furthest above its limit."""
+        return max(self.checks, key=lambda c: c.value_mg / c.limit_mg, default=None)
+
+    @property
+    def required_total_damping_ratio(self) -> float | None:
+        """Largest total damping the response model asks for over the advised checks."""
+        vals = [c.zeta_required_total for c in self.checks if c.zeta_required_total is not None]
+        return max(vals) if vals else None
+
+    def _loop(self, kind: str) -> ClosedLoop | None:
+        return next((lp for lp in self.loops if lp.damper_type == kind), None)
+
+    @property
+    def curve(self) -> DampingCurve | None:
+        g = self.governing
+        if g is None or not g.curve_mg:
+            return None
+        tmd = next((m.tmd for m in self.modes if m.tmd is not None and m.mode_index == g.governing_mode_index), None)
+        return DampingCurve(f"{g.criterion} ({g.method}), wind from {g.direction_deg or 0:.0f} deg",
+                            g.curve_mg, g.limit_mg, tmd.zeta_added if tmd is not None else None)
+
+    @property
+    def summary_lines(self) -> tuple[str, ...]:
+        if not self.needed:
+            return ()
+        out: list[str] = []
+        for c in self.checks:
+            need = (f"needs total damping {100 * c.zeta_required_total:.1f} % "
+                    f"(now {100 * c.zeta_current:.2f} %: structural {100 * c.zeta_structural:.2f} + "
+                    f"aerodynamic {100 * c.zeta_aerodynamic:.2f}); the 1/sqrt(damping) rule says "
+                    f"{100 * c.zeta_required_rule:.1f} %" if c.zeta_required_total is not None
+                    else "cannot be met by damping alone (total damping 50 % would not do it)")
+            stiff = (f"; or stiffen to {c.frequency_required_hz:.3f} Hz (stiffness x {c.stiffness_factor:.2f})"
+                     if c.frequency_required_hz is not None else "")
+            out.append(f"{c.criterion} ({c.method}) {c.value_mg:.1f} mg vs {c.limit_mg:.1f}: {need}{stiff}")
+        for m in self.modes:
+            if m.tmd is not None:
+                t = m.tmd
+                stroke = f", peak stroke {1000 * t.stroke_peak_m:.0f} mm" if t.stroke_peak_m else ""
+                out.append(
+                    f"TMD for mode {m.mode_index} ({m.kind}, {m.frequency_hz:.3f} Hz) at {m.level}: "
+                    f"{t.damper_mass_t:,.0f} t (mass ratio {100 * t.mass_ratio:.2f} % of {m.modal_mass_kg / 1e6:,.1f} kt "
+                    f"generalized mass), tuned to {t.damper_frequency_hz:.3f} Hz, damper damping "
+                    f"{100 * t.tuning.damping_ratio:.1f} %, adds {100 * t.zeta_added:.1f} % damping{stroke}; "
+                    f"+-{100 * t.mistuning.detuning:.0f} % mistuning gives "
+                    f"{100 * t.mistuning.zeta_total_worst:.1f} % total instead of {100 * t.zeta_total:.1f} %")
+            if m.tlcd is not None:
+                c = m.tlcd
+                out.append(f"Liquid column damper for mode {m.mode_index}: column length {c.column_length_m:.1f} m "
+                           f"({c.horizontal_length_m:.1f} m horizontal), {c.liquid_mass_t:,.0f} t of water"
+                           f"{'' if m.tlcd_fits_plate else ' (does NOT fit the plate along the motion)'}")
+        if self.tanks is not None:
+            t = self.tanks
+            d = t.single or (t.two_way.x if t.two_way is not None else None)
+            if d is not None:
+                layout = f" ({t.two_way.layout})" if t.two_way is not None else ""
+                out.append(
+                    f"Sloshing tanks on {t.level}{layout}: {d.n_tanks} x {d.length_m:.1f} m x {d.width_m:.1f} m, "
+                    f"water {d.depth_m:.2f} m deep (h/L {d.depth_ratio:.2f}, {d.frequency_hz:.3f} Hz), "
+                    f"{t.water_mass_t:,.0f} t of water; {d.load_over_tank_kpa:.1f} kPa over the tanks, "
+                    f"{d.load_over_plate_kpa:.1f} kPa over the plate; "
+                    f"{'fits' if t.fits else 'does NOT fit'} the free plate area ({t.free_area_m2:,.0f} m2)")
+        for lp in self.loops:
+            shift = ", ".join(f"mode {a} {fa:.3f} -> {fb:.3f} Hz" for a, fa, _b, fb, _mu, _z in lp.modes)
+            worst = max(lp.checks, key=lambda c: c.value_after_mg / c.limit_after_mg, default=None)
+            after = (f"; worst after {worst.value_after_mg:.1f} mg vs {worst.limit_after_mg:.1f} ({worst.criterion}, "
+                     f"{worst.method})" if worst else "")
+            out.append(f"After {lp.damper_type.upper()} (+{lp.added_mass_t:,.0f} t at {lp.level}): "
+                       f"{'all comfort checks pass' if lp.passes else 'still flagged'}; {shift}{after}")
+        return tuple(out)
+
+    @property
+    def explanation(self) -> str:
+        g = self.governing
+        if not self.needed or g is None:
+            return ""
+        passing = [lp.damper_type.upper() for lp in self.loops if lp.passes]
+        return (
+            f"The scheme fails {g.criterion.lower()} by {g.method}: {g.value_mg:.1f} mg against {g.limit_mg:.1f} mg. "
+            "The wind response was recomputed as a function of damping and solved for the limit (with a "
+            f"{100 * (1 - self.margin):.0f} % margin). An auxiliary damper tuned to the responding mode adds "
+            "damping; its size follows from the mass ratio that gives that damping in a two-degree-of-freedom "
+            "model with Warburton's optimum tuning. The proposals were then added to the top floor, the modes and "
+            "winds re-run, and the checks repeated: "
+            + (f"with {', '.join(passing)} every comfort check passes." if passing
+               else "no proposal clears every check; stiffen the scheme or commission a wind-tunnel study.")
+        )
+
+    @property
+    def ifc_properties(self) -> tuple[tuple[str, Any, str], ...]:
+        """(name, value, IFC measure type) for the write-back."""
+        if not self.needed:
+            return ()
+        props: list[tuple[str, Any, str]] = []
+        req = self.required_total_damping_ratio
+        if req is not None:
+            props.append(("RequiredTotalDampingRatio", float(req), "IfcRatioMeasure"))
+        for m in self.modes:
+            if m.tmd is not None:
+                props += [(f"Mode{m.mode_index}TmdMass", float(m.tmd.damper_mass_t * 1000), "IfcMassMeasure"),
+                          (f"Mode{m.mode_index}TmdFrequency", float(m.tmd.damper_frequency_hz), "IfcFrequencyMeasure"),
+                          (f"Mode{m.mode_index}TmdDampingRatio", float(m.tmd.tuning.damping_ratio), "IfcRatioMeasure")]
+        if self.tanks is not None:
+            props += [("TankWaterMass", float(self.tanks.water_mass_t * 1000), "IfcMassMeasure"),
+                      ("TanksFitPlate", bool(self.tanks.fits), "IfcBoolean"),
+                      ("TankLevel", self.tanks.level, "IfcLabel")]
+        for lp in self.loops:
+            props.append((f"After{lp.damper_type.capitalize()}Passes", bool(lp.passes), "IfcBoolean"))
+        lines = self.summary_lines
+        if lines:
+            props.append(("Proposal", " | ".join(lines)[:2000], "IfcText"))
+        return tuple(props)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -638,6 +766,11 @@ def _advise_check(chk: Check, chain: ScreeningChain, results: list[AccelerationR
     if "Melbourne-Palmer" in chk.criterion:
         notes.append("frequency-dependent limit re-evaluated at each trial frequency")
     zs = gov.structural_damping_ratio
+    z_top = min(ZETA_MAX, max(0.08, 1.5 * (z_req if z_req is not None else 0.1)))
+    curve = tuple(
+        (z - gov.damping_ratio, ratio_at_damping(z) * chk.limit)
+        for z in np.linspace(gov.damping_ratio, z_top, 25)
+    )
     adv = CheckAdvice(
         criterion=chk.criterion, method=chk.method, return_period_yr=chk.return_period_yr,
         direction_deg=chk.direction_deg, value_mg=chk.value, limit_mg=chk.limit, target_mg=target,
@@ -648,6 +781,7 @@ def _advise_check(chk: Check, chain: ScreeningChain, results: list[AccelerationR
         frequency_required_hz=gov.frequency_hz * s_req if s_req is not None else None,
         stiffness_factor=s_req**2 if s_req is not None else None,
         note="; ".join(notes),
+        curve_mg=curve,
     )
     needs: dict[int, list[tuple[float, AccelerationCase]]] = {}
     if z_req is not None:
