@@ -115,6 +115,8 @@ def annotations_for(run, *, when: datetime) -> list:
                     k[1] += s.k_y_n_m
             centres = stick.stiffness_centres_m or ()
             for i, lv in enumerate(stick.levels):
+                if "#" in lv.storey_id:  # a floor with no storey of its own (roof slab in the top storey)
+                    continue
                 pp = [Prop("Mass", float(lv.mass_kg), "IfcMassMeasure"),
                       Prop("MassCentreX", float(lv.mass_centre_m[0]), "IfcLengthMeasure"),
                       Prop("MassCentreY", float(lv.mass_centre_m[1]), "IfcLengthMeasure")]
@@ -145,7 +147,7 @@ def bcf_topics(run) -> list:
     for b in run.buildings:
         if b.assessment.status == "pass":
             continue
-        storey_ids = {lv.name: lv.storey_id for lv in b.derived.stick.levels} if b.derived.stick else {}
+        storey_ids = {lv.name: lv.storey_id.split("#")[0] for lv in b.derived.levels}
         for c in b.assessment.flagged:
             ids = [b.building.global_id]
             if c.floor and c.floor in storey_ids:

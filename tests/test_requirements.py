@@ -11,15 +11,6 @@ import pytest
 
 from swayscreen.pipeline.requirements import IDS_PATH, build_ids, check_requirements
 
-SHARED = Path(__file__).resolve().parents[1].parent / "shared" / "ifc-samples"
-
-
-@pytest.fixture()
-def shared_samples():
-    if not SHARED.is_dir():
-        pytest.skip("../shared/ifc-samples is not present")
-    return SHARED
-
 
 def test_bundled_ids_is_current():
     assert IDS_PATH.read_text(encoding="utf-8") == build_ids().to_string()
