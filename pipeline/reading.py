@@ -66,6 +66,7 @@ from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
 from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, attr, faces_body, mesh_body, polygonal, prism_footprint,
+                           prism_plan_parts,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
 from .ifc_materials import MaterialReader
 from .ifc_units import read_context, read_units
@@ -166,9 +167,67 @@ class _Solid:
         return np.vstack([prism_vertices(p) for p in self.prisms])
 
 
+class _Ring:
+    """A plan footprint that is one simple ring (the common case: one vertical extrusion
+    of a profile without holes), kept as coordinates until all elements are read, then
+    turned into shapely polygons in one vectorised call (see :func:`_materialise`).
+
+    Offers the few polygon properties the element readers use."""
+
+    __slots__ = ("coords", "_area", "poly")
+
+    def __init__(self, coords: np.ndarray) -> None:
+        self.coords = coords  # closed ring (k, 2)
+        x, y = coords[:, 0], coords[:, 1]
+        self._area = abs(float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))) / 2.0
+        self.poly: Polygon | None = None
+
+    is_empty = False
+
+    @property
+    def area(self) -> float:
+        return self._area
+
+    def polygon(self) -> Polygon:
+        if self.poly is None:
+            self.poly = shapely.polygons(self.coords)
+        return self.poly
+
+
+def _shape(g) -> PlanShape:
+    return g.polygon() if isinstance(g, _Ring) else g
+
+
+def _materialise(rings: list[_Ring]) -> None:
+    """Create the polygons of many rings at once (one GEOS call instead of one per ring)."""
+    todo = [r for r in rings if r.poly is None]
+    if not todo:
+        return
+    coords = np.concatenate([r.coords for r in todo])
+    idx = np.repeat(np.arange(len(todo)), [len(r.coords) for r in todo])
+    polys = shapely.polygons(shapely.linearrings(coords, indices=idx))
+    for r, p in zip(todo, polys):
+        r.poly = p
+
+
+@dataclass
+class _Pending:
+    """An element read but not yet built (its footprint may still be a :class:`_Ring`)."""
+
+    cls: type
+    kwargs: dict
+    zmin: float
+    zmax: float
+    geom_key: str
+
+
 def _from_prisms(prisms: list[Prism], clipped: bool) -> _Solid:
     if len(prisms) == 1:
-        fp = prism_footprint(prisms[0])
+        p = prisms[0]
+        if p.vertical and len(p.profile.parts) == 1 and not p.profile.parts[0][1]:
+            fp = _Ring(prism_plan_parts(p)[0][0])
+        else:
+            fp = prism_footprint(p)
     else:
         fp = polygonal(shapely.union_all([prism_footprint(p) for p in prisms]))
     zr = [prism_zrange(p) for p in prisms]
@@ -182,7 +241,9 @@ def _polys(shape: PlanShape) -> list[Polygon]:
     return [shape] if isinstance(shape, Polygon) and not shape.is_empty else []
 
 
-def _outline(shape: PlanShape) -> np.ndarray:
+def _outline(shape) -> np.ndarray:
+    if isinstance(shape, _Ring):
+        return shape.coords
     return np.vstack([np.asarray(p.exterior.coords) for p in _polys(shape)])
 
 
@@ -425,12 +486,12 @@ class _Reader:
                 continue
             cuts.append(sol.footprint)
         if cuts:
-            footprint = polygonal(footprint.difference(shapely.union_all(cuts)))
+            footprint = polygonal(_shape(footprint).difference(shapely.union_all([_shape(c) for c in cuts])))
         info = self._material(el, "slab")
-        slab = Slab(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), footprint=footprint, thickness_m=float(thickness),
-                    top_elevation_m=float(solid.zmax), predefined_type=self._predefined(el), sloped=sloped,
-                    material=info.material, storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
-        return Placed(slab, solid.zmin, solid.zmax)
+        kw = dict(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), footprint=footprint,
+                  thickness_m=float(thickness), top_elevation_m=float(solid.zmax), predefined_type=self._predefined(el),
+                  sloped=sloped, material=info.material, storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
+        return _Pending(Slab, kw, solid.zmin, solid.zmax, "footprint")
 
     def _axis_from_rep(self, el) -> np.ndarray | None:
         rep = el.get_argument(6)
@@ -487,7 +548,7 @@ class _Reader:
             else:
                 t_geom = float(fp.area) / length
         else:
-            rect = np.asarray(shapely.oriented_envelope(fp).exterior.coords)[:4]
+            rect = np.asarray(shapely.oriented_envelope(_shape(fp)).exterior.coords)[:4]
             e1, e2 = rect[1] - rect[0], rect[2] - rect[1]
             l1, l2 = float(np.linalg.norm(e1)), float(np.linalg.norm(e2))
             centre = rect.mean(axis=0)
@@ -526,12 +587,12 @@ class _Reader:
         if lb is None:
             lb = self._type_load_bearing(el)
         (ax, ay), (bx, by) = a.tolist(), b.tolist()
-        wall = Wall(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""),
-                    axis_m=((ax, ay), (bx, by)), length_m=float(length),
-                    thickness_m=float(thickness), height_m=float(height), base_elevation_m=float(base),
-                    footprint=fp, openings=tuple(openings), load_bearing=lb, material=info.material,
-                    storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
-        return Placed(wall, solid.zmin, solid.zmax)
+        kw = dict(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""),
+                  axis_m=((ax, ay), (bx, by)), length_m=float(length),
+                  thickness_m=float(thickness), height_m=float(height), base_elevation_m=float(base),
+                  footprint=fp, openings=tuple(openings), load_bearing=lb, material=info.material,
+                  storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
+        return _Pending(Wall, kw, solid.zmin, solid.zmax, "footprint")
 
     def _column(self, el) -> Placed | None:
         solid = self._solid(el, "column")
@@ -549,10 +610,10 @@ class _Reader:
             self.warnings.append(f"{self.where}: column {_label(el)} has no height or section; skipped")
             return None
         info = self._material(el, "column")
-        col = Column(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), section=section, height_m=float(height),
-                     base_elevation_m=float(solid.zmin), material=info.material, storey_id=self._storey_id(el),
-                     from_mesh=solid.mesh is not None)
-        return Placed(col, solid.zmin, solid.zmax)
+        kw = dict(global_id=el.get_argument(0), name=str(el.get_argument(2) or ""), section=section,
+                  height_m=float(height), base_elevation_m=float(solid.zmin), material=info.material,
+                  storey_id=self._storey_id(el), from_mesh=solid.mesh is not None)
+        return _Pending(Column, kw, solid.zmin, solid.zmax, "section")
 
     # -- storeys ----------------------------------------------------------------------
     def _usage(self, storey) -> str | None:
@@ -653,6 +714,15 @@ class _Reader:
                     if len(bld_storeys) > 1:
                         unplaced += 1
                 per_bld[bid][kind].append(placed)
+        pendings = [p for els in per_bld.values() for lst in els.values() for p in lst]
+        _materialise([p.kwargs[p.geom_key] for p in pendings if isinstance(p.kwargs[p.geom_key], _Ring)])
+        for els in per_bld.values():
+            for kind in els:
+                built = []
+                for p in els[kind]:
+                    p.kwargs[p.geom_key] = _shape(p.kwargs[p.geom_key])
+                    built.append(Placed(p.cls(**p.kwargs), p.zmin, p.zmax))
+                els[kind] = built
         if unplaced:
             self.warnings.append(f"{self.where}: {_plural(unplaced, 'element')} in no storey or building are "
                                  "read with the first building")
