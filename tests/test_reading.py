@@ -638,3 +638,57 @@ def test_takeoff_to_dict_is_json_and_carries_the_quantities(ifc_builder, tmp_pat
     assert w["height_m"] == pytest.approx(STOREY_H) and w["plan_area_m2"] == pytest.approx(24 * 0.3)
     c = s["columns"][0]
     assert c["area_m2"] == pytest.approx(0.4) and c["height_m"] == pytest.approx(STOREY_H)
+
+
+# ---------------------------------------------------------------------------- curves and contexts
+
+def test_composite_curve_profile_with_an_arc(ifc_builder, tmp_path):
+    """A 6 m x 4 m rectangle closed by a semicircle of radius 2 m on its east side
+    (IfcCompositeCurve: polyline + IfcTrimmedCurve on an IfcCircle, parameter-trimmed)."""
+    b = ifc_builder("IFC2X3", "mm")
+    s = b.storey("L0", 0.0)
+    f = b.f
+    line = f.createIfcPolyline([b.point(p) for p in [(6, 4), (0, 4), (0, 0), (6, 0)]])
+    circle = f.createIfcCircle(b.axis2d((6, 2)), b.L(2.0))
+    arc = f.createIfcTrimmedCurve(circle, [f.create_entity("IfcParameterValue", -math.pi / 2)],
+                                  [f.create_entity("IfcParameterValue", math.pi / 2)], True, "PARAMETER")
+    curve = f.createIfcCompositeCurve([f.createIfcCompositeCurveSegment("CONTINUOUS", True, line),
+                                       f.createIfcCompositeCurveSegment("CONTINUOUS", True, arc)], False)
+    prof = f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+    b.element("IfcSlab", s, b.shape([b.extrusion(prof, 0.2, direction=(0, 0, -1))]), (0, 0, 0), "rounded", "FLOOR")
+    sl = _read(b, tmp_path).buildings[0].storeys[0].slabs[0]
+    exact = 24.0 + math.pi * 4.0 / 2
+    # chords every 5 degrees: the semicircle polygon holds sin(5 deg)/(5 deg in rad) of the arc's area
+    chorded = 24.0 + (math.pi * 4.0 / 2) * math.sin(math.radians(5)) / math.radians(5)
+    assert sl.area_m2 == pytest.approx(chorded, rel=1e-9)
+    assert sl.area_m2 == pytest.approx(exact, rel=2e-3)
+    assert sl.footprint.bounds == pytest.approx((0.0, 0.0, 8.0, 4.0), abs=1e-9)
+
+
+def test_indexed_poly_curve_with_arc_segment(ifc_builder, tmp_path):
+    """IFC4 IfcIndexedPolyCurve: a 4 m square whose top edge is a half circle through (2, 6)."""
+    b = ifc_builder("IFC4", "m")
+    s = b.storey("L0", 0.0)
+    f = b.f
+    pts = f.createIfcCartesianPointList2D([(0.0, 0.0), (4.0, 0.0), (4.0, 4.0), (2.0, 6.0), (0.0, 4.0)])
+    segs = [f.create_entity("IfcLineIndex", (1, 2, 3)), f.create_entity("IfcArcIndex", (3, 4, 5)),
+            f.create_entity("IfcLineIndex", (5, 1))]
+    curve = f.createIfcIndexedPolyCurve(pts, segs, False)
+    prof = f.createIfcArbitraryClosedProfileDef("AREA", None, curve)
+    b.element("IfcSlab", s, b.shape([b.extrusion(prof, 0.25, direction=(0, 0, -1))]), (0, 0, 0), "arch", "FLOOR")
+    sl = _read(b, tmp_path).buildings[0].storeys[0].slabs[0]
+    chorded = 16.0 + (math.pi * 4.0 / 2) * math.sin(math.radians(5)) / math.radians(5)
+    assert sl.area_m2 == pytest.approx(chorded, rel=1e-9)
+    assert sl.footprint.bounds[3] == pytest.approx(6.0, abs=1e-9)
+
+
+def test_world_coordinate_system_of_the_context_applied(ifc_builder, tmp_path):
+    b = ifc_builder("IFC4", "m")
+    b.model_ctx.WorldCoordinateSystem = b.axis2((100.0, 50.0, 10.0))
+    s = b.storey("L0", 0.0)
+    b.slab(s, PLATE, 0.25)
+    t = _read(b, tmp_path)
+    st0 = t.buildings[0].storeys[0]
+    assert st0.elevation_m == pytest.approx(10.0)  # placement z; Elevation attribute 0 disagrees
+    assert st0.slabs[0].centroid_m == pytest.approx((112.0, 58.0))
+    assert any("differs from its placement" in w for w in t.warnings)
