@@ -824,7 +824,20 @@ class _Writer:
             self._storeys()
             for mat, products in self._material_targets.items():
                 f.createIfcRelAssociatesMaterial(self.guid(), self.owner["history"], None, None, products, mat)
+        self._sort_relationships()
         return f
+
+    def _sort_relationships(self) -> None:
+        """The API fills some SETs (related objects, units) through Python sets of entity
+        instances, whose order depends on memory addresses; write them in entity-id order
+        so the file does not depend on the process it was made in."""
+        for rel in self.f.by_type("IfcRelationship") + self.f.by_type("IfcUnitAssignment"):
+            for attr in ("RelatedObjects", "RelatedElements", "Units"):
+                related = getattr(rel, attr, None)
+                if isinstance(related, tuple) and len(related) > 1:
+                    ordered = sorted(related, key=lambda e: e.id())
+                    if list(related) != ordered:
+                        setattr(rel, attr, ordered)
 
     def _owner_history(self) -> None:
         f = self.f
