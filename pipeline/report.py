@@ -143,29 +143,30 @@ def _profile_plot(plt, b) -> str | None:
         return None
     z = [lv.elevation_m - stick.base_elevation_m for lv in stick.levels]
     mass_t = [lv.mass_kg / 1000 for lv in stick.levels]
-    kx = [0.0] * len(z)
-    ky = [0.0] * len(z)
-    for s in stick.segments:
-        i = s.level_index
-        h = s.length_m
-        if s.kind == "frame":
-            kx[i] += s.k_x_n_m
-            ky[i] += s.k_y_n_m
-        else:  # storey stiffness of a cantilever segment, flexure and shear in series (indicative)
-            for arr, ei, ga in ((kx, s.ei_yy_nm2, s.ga_x_n), (ky, s.ei_xx_nm2, s.ga_y_n)):
-                flex = (h**3 / (12 * ei) if ei > 0 else math.inf) + (h / ga if ga > 0 else math.inf)
-                arr[i] += 0.0 if math.isinf(flex) else 1.0 / flex
-    fig, (a1, a2) = plt.subplots(1, 2, figsize=(9, 4.2), sharey=True)
+    n = len(z)
+    ei_x, ei_y, kx, ky = [0.0] * n, [0.0] * n, [0.0] * n, [0.0] * n
+    for seg in stick.segments:
+        i = seg.level_index
+        if seg.kind == "frame":
+            kx[i] += seg.k_x_n_m
+            ky[i] += seg.k_y_n_m
+        else:  # flexural rigidity against sway in x is E I about the y axis
+            ei_x[i] += seg.ei_yy_nm2
+            ei_y[i] += seg.ei_xx_nm2
+    fig, (a1, a2, a3) = plt.subplots(1, 3, figsize=(10, 4.2), sharey=True)
     a1.step(mass_t, z, where="mid", color="#1f5fa8")
     a1.set_xlabel("floor mass (t)")
     a1.set_ylabel("height above base (m)")
-    a1.grid(alpha=0.3)
-    a2.step([v / 1e6 for v in kx], z, where="mid", label="x", color="#1f5fa8")
-    a2.step([v / 1e6 for v in ky], z, where="mid", label="y", color="#b5432a")
-    a2.set_xscale("log")
-    a2.set_xlabel("storey shear stiffness, indicative (MN/m)")
+    a2.step([v / 1e9 for v in ei_x], z, where="mid", label="sway in x", color="#1f5fa8")
+    a2.step([v / 1e9 for v in ei_y], z, where="mid", label="sway in y", color="#b5432a")
+    a2.set_xlabel("cores and walls: flexural rigidity EI (GN m2)")
     a2.legend(fontsize=8)
-    a2.grid(alpha=0.3, which="both")
+    a3.step([v / 1e6 for v in kx], z, where="mid", label="x", color="#1f5fa8")
+    a3.step([v / 1e6 for v in ky], z, where="mid", label="y", color="#b5432a")
+    a3.set_xlabel("columns: storey shear stiffness (MN/m)")
+    a3.legend(fontsize=8)
+    for ax in (a1, a2, a3):
+        ax.grid(alpha=0.3)
     fig.suptitle("Storey mass and stiffness profiles", fontsize=11)
     return _svg(fig)
 
@@ -258,7 +259,7 @@ def _checks_table(checks) -> str:
     for c in checks:
         rows.append(
             f'<tr class="{"" if c.passes else "fail"}"><td>{_e(c.criterion)}</td><td>{_e(c.method)}</td>'
-            f'<td class="n">{_fmt(c.value)}</td><td class="n">{_fmt(c.limit)}</td><td>{_e(c.unit)}</td>'
+            f'<td class="n">{c.value:.4g}</td><td class="n">{c.limit:.4g}</td><td>{_e(c.unit)}</td>'
             f'<td class="n">{_fmt(c.ratio)}</td><td>{"passes" if c.passes else "FLAGGED"}</td>'
             f'<td>{_fmt(c.return_period_yr, 0)}</td><td>{_fmt(c.direction_deg, 0)}</td><td>{_e(c.floor or "-")}</td>'
             f'<td class="note">{_e(c.note)}</td></tr>'
@@ -300,7 +301,7 @@ def _modes_table(b) -> str:
 
 def _damper_html(b) -> str:
     adv = b.results.get("damping_advice")
-    if adv is None:
+    if adv is None or not getattr(adv, "needed", True):
         return ""
     text = getattr(adv, "explanation", "") or ""
     lines = getattr(adv, "summary_lines", ()) or ()
