@@ -58,9 +58,10 @@ opened in full: ``ifcopenshell.open(lazy=True)`` opened faster but made the whol
 slower (about 165 against 130 ms CPU on the 60-storey sample), since every element is
 visited anyway.
 
-Warnings are one line each, aggregated (counts with up to five GlobalIds), collected in
-``Takeoff.warnings`` (everything) and ``BuildingTakeoff.warnings`` (that building's floor
-corrections).
+Warnings are one line each, aggregated (counts with up to five GlobalIds): what concerns
+the file and its elements in ``Takeoff.warnings``, each building's floor corrections
+(reassigned elements, split storeys, finish layers, duplicates, empty storeys) in its
+``BuildingTakeoff.warnings``.
 """
 from __future__ import annotations
 
@@ -758,11 +759,10 @@ class _Reader:
             if b.id() not in bld_storeys:
                 self.warnings.append(f"{self.where}: building '{b.Name or b.GlobalId}' has no storeys; skipped")
 
-        file_warnings = self._summary()
-        all_warnings = tuple(file_warnings + [w for r in results for w in r.warnings])
+        file_warnings = tuple(self._summary())
         return Takeoff(source_path=str(self.path), schema=_schema_name(m), length_unit=units.length_name,
                        length_scale_m=units.length_m, true_north_deg=float(ctx.true_north_deg),
-                       buildings=tuple(results), warnings=all_warnings, mesh_elements=tuple(self.mesh_ids))
+                       buildings=tuple(results), warnings=file_warnings, mesh_elements=tuple(self.mesh_ids))
 
     def _summary(self) -> list[str]:
         w = list(self.warnings)
@@ -771,14 +771,15 @@ class _Reader:
             w.append(f"{where}: {_plural(len(items), kind)} without readable geometry skipped: {_ids(items)}")
         if self.mesh_ids:
             kinds = ", ".join(f"{n} {t}" for t, n in self.mesh_types.most_common())
-            w.append(f"{where}: {_plural(len(self.mesh_ids), 'element')} have no parametric body ({kinds}) and were "
-                     f"read through the geometry engine, projected to plan: {_ids(self.mesh_ids)}")
+            n = len(self.mesh_ids)
+            w.append(f"{where}: {_plural(n, 'element')} {'has' if n == 1 else 'have'} no parametric body ({kinds}); "
+                     f"read as {'a mesh' if n == 1 else 'meshes'} projected to plan: {_ids(self.mesh_ids)}")
         for kind, items in self.clipped.items():
             w.append(f"{where}: {_plural(len(items), kind)} clipped by half-spaces; the unclipped extrusion is used "
                      f"(quantities slightly high): {_ids(items)}")
         for kind, items in self.no_material.items():
-            w.append(f"{where}: {_plural(len(items), kind)} have no material; the settings' default material is "
-                     f"assumed: {_ids(items)}")
+            w.append(f"{where}: {_plural(len(items), kind)} {'has' if len(items) == 1 else 'have'} no material; "
+                     f"the settings' default material is assumed: {_ids(items)}")
         if self.layer_mismatch:
             w.append(f"{where}: {_plural(len(self.layer_mismatch), 'wall')} whose material layer total disagrees with "
                      f"the body thickness; the body is used: {_ids(self.layer_mismatch)}")

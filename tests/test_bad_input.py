@@ -17,6 +17,11 @@ from swayscreen.pipeline.reading import read_model
 
 PLATE = [(0.0, 0.0), (10.0, 0.0), (10.0, 8.0), (0.0, 8.0)]
 
+def _warnings(t) -> list[str]:
+    """File warnings and every building's warnings."""
+    return list(t.warnings) + [w for b in t.buildings for w in b.warnings]
+
+
 
 def _valid(b):
     s = b.storey("L0", 0.0)
@@ -153,7 +158,7 @@ def test_storey_without_elements_is_a_warning(ifc_builder, tmp_path):
     _valid(b)
     b.storey("Empty", 3.0)
     t = read_model(b.write(tmp_path / "empty-storey.ifc"))
-    assert any("storey 'Empty' at 3.00 m has no slabs, walls or columns" in w for w in t.warnings)
+    assert any("storey 'Empty' at 3.00 m has no slabs, walls or columns" in w for w in _warnings(t))
 
 
 def test_element_without_geometry_is_a_warning(ifc_builder, tmp_path):
@@ -161,7 +166,7 @@ def test_element_without_geometry_is_a_warning(ifc_builder, tmp_path):
     s = _valid(b)
     ghost = b.element("IfcWall", s, None, (0, 0, 0), "ghost wall")
     t = read_model(b.write(tmp_path / "ghost.ifc"))
-    assert any(f"IfcWall {ghost.GlobalId} 'ghost wall'" in w and "without readable geometry" in w for w in t.warnings)
+    assert any(f"IfcWall {ghost.GlobalId} 'ghost wall'" in w and "without readable geometry" in w for w in _warnings(t))
 
 
 def test_zero_thickness_slab_is_a_warning(ifc_builder, tmp_path):
@@ -170,7 +175,7 @@ def test_zero_thickness_slab_is_a_warning(ifc_builder, tmp_path):
     flat = b.slab(s, PLATE, 0.2, name="paper")
     flat.Representation.Representations[0].Items[0].Depth = 0.0
     t = read_model(b.write(tmp_path / "paper.ifc"))
-    assert any(f"slab IfcSlab {flat.GlobalId} 'paper' has zero thickness" in w for w in t.warnings)
+    assert any(f"slab IfcSlab {flat.GlobalId} 'paper' has zero thickness" in w for w in _warnings(t))
 
 
 def test_bare_cr_line_endings(ifc_builder, tmp_path):

@@ -28,6 +28,11 @@ PLATE = [(0.0, 0.0), (24.0, 0.0), (24.0, 16.0), (0.0, 16.0)]
 SHAFT = [(10.0, 6.0), (14.0, 6.0), (14.0, 10.0), (10.0, 10.0)]
 STOREY_H = 3.5
 
+def _warnings(t) -> list[str]:
+    """File warnings and every building's warnings."""
+    return list(t.warnings) + [w for b in t.buildings for w in b.warnings]
+
+
 
 def _tower(b, storeys: int = 3, basement: bool = False):
     """A plate with a shaft void, four perimeter walls with a door, two columns per storey."""
@@ -237,7 +242,7 @@ def test_zero_thickness_slab_warns_and_is_skipped(ifc_builder, tmp_path):
     bad.Representation.Representations[0].Items[0].Depth = 0.0
     t = _read(b, tmp_path)
     assert all(x.global_id != bad.GlobalId for st_ in t.buildings[0].storeys for x in st_.slabs)
-    assert any(bad.GlobalId in w and "zero thickness" in w for w in t.warnings)
+    assert any(bad.GlobalId in w and "zero thickness" in w for w in _warnings(t))
 
 
 def test_clipped_extrusion_is_read_with_a_warning(ifc_builder, tmp_path):
@@ -252,7 +257,7 @@ def test_clipped_extrusion_is_read_with_a_warning(ifc_builder, tmp_path):
     t = _read(b, tmp_path)
     wall = t.buildings[0].storeys[0].walls[0]
     assert wall.length_m == pytest.approx(6.0, rel=1e-9) and wall.height_m == pytest.approx(3.0, rel=1e-9)
-    assert any("clipped by half-spaces" in x and w.GlobalId in x for x in t.warnings)
+    assert any("clipped by half-spaces" in x and w.GlobalId in x for x in _warnings(t))
 
 
 # ---------------------------------------------------------------------------- walls
@@ -315,7 +320,7 @@ def test_layer_set_thickness_and_mismatch(ifc_builder, tmp_path):
     assert walls["ok"].thickness_m == pytest.approx(0.25, rel=1e-9)
     assert walls["ok"].material.category == "concrete" and walls["ok"].material.strength_class == "C30/37"
     assert walls["bad"].thickness_m == pytest.approx(0.25, rel=1e-9)  # geometry kept
-    assert any("layer total disagrees" in w and bad.GlobalId in w for w in t.warnings)
+    assert any("layer total disagrees" in w and bad.GlobalId in w for w in _warnings(t))
 
 
 def test_load_bearing_from_pset(ifc_builder, tmp_path):
@@ -429,7 +434,7 @@ def test_faceted_brep_slab_read_from_faces(ifc_builder, tmp_path):
     assert sl.area_m2 == pytest.approx(40.0, rel=1e-9)
     assert sl.thickness_m == pytest.approx(0.2, rel=1e-9)
     assert sl.top_elevation_m == pytest.approx(3.0, abs=1e-9)
-    assert any("no parametric body" in w for w in t.warnings)
+    assert any("no parametric body" in w for w in _warnings(t))
 
 
 def test_triangulated_face_set_column(ifc_builder, tmp_path):
@@ -494,7 +499,7 @@ def test_material_properties_and_missing_material_warning(ifc_builder, tmp_path)
     assert (mat.name, mat.category, mat.strength_class) == ("Concrete C40/50", "concrete", "C40/50")
     assert (mat.density_kg_m3, mat.youngs_modulus_pa, mat.poisson_ratio) == (2500.0, 35.0e9, 0.2)
     assert st0.columns[0].material == mat
-    no_mat = [w for w in t.warnings if "have no material" in w]
+    no_mat = [w for w in _warnings(t) if "have no material" in w]
     assert len(no_mat) == 1 and no_mat[0].count("4 walls") == 1
 
 
@@ -553,7 +558,7 @@ def test_elements_reassigned_to_the_storey_their_geometry_spans(ifc_builder, tmp
     assert [w.name for w in st_["L0"].walls] == ["lower wall"]
     assert sorted(x.name for x in st_["L1"].slabs) == ["L1 slab"]  # duplicate of "upper slab" dropped
     assert st_["L1"].columns[0].storey_id == s0.GlobalId  # the exported containment is kept
-    text = "\n".join(t.warnings)
+    text = "\n".join(_warnings(t))
     assert "1 column contained in storey 'L0' lie in storey 'L1'" in text
     assert "1 wall contained in storey 'L1' lie in storey 'L0'" in text
     assert up_slab.GlobalId in text and col.GlobalId in text and wall.GlobalId in text
@@ -570,7 +575,7 @@ def test_one_storey_with_two_slab_levels_is_split(ifc_builder, tmp_path):
     assert [(s_.name, round(s_.elevation_m, 6)) for s_ in st_] == [("Undefined", 0.0), ("Undefined (+4.00 m)", 4.0)]
     assert st_[1].global_id == s.GlobalId + "/1"
     assert st_[0].height_m == pytest.approx(4.0) and st_[1].height_m == pytest.approx(4.0)
-    assert any("holds floor slabs at 2 levels (0.00 m, 4.00 m): split into 2 floors" in w for w in t.warnings)
+    assert any("holds floor slabs at 2 levels (0.00 m, 4.00 m): split into 2 floors" in w for w in _warnings(t))
 
 
 def test_finish_layers_dropped_and_empty_storey_warned(ifc_builder, tmp_path):
@@ -581,8 +586,8 @@ def test_finish_layers_dropped_and_empty_storey_warned(ifc_builder, tmp_path):
     fin = b.slab(s0, PLATE, 0.02, top=0.02, name="tiles")
     t = _read(b, tmp_path)
     assert [x.thickness_m for x in t.buildings[0].storeys[0].slabs] == [pytest.approx(0.25)]
-    assert any("finish layers" in w and fin.GlobalId in w for w in t.warnings)
-    assert any("'Datum' at 10.00 m has no slabs, walls or columns" in w for w in t.warnings)
+    assert any("finish layers" in w and fin.GlobalId in w for w in _warnings(t))
+    assert any("'Datum' at 10.00 m has no slabs, walls or columns" in w for w in _warnings(t))
 
 
 def test_usage_hint_from_spaces_and_names(ifc_builder, tmp_path):
@@ -616,7 +621,7 @@ def test_element_without_geometry_is_named_in_a_warning(ifc_builder, tmp_path):
     s = b.f.by_type("IfcBuildingStorey")[0]
     ghost = b.element("IfcColumn", s, None, (1, 1, 0), "ghost")
     t = _read(b, tmp_path)
-    assert any(ghost.GlobalId in w and "without readable geometry" in w and "'ghost'" in w for w in t.warnings)
+    assert any(ghost.GlobalId in w and "without readable geometry" in w and "'ghost'" in w for w in _warnings(t))
 
 
 # ---------------------------------------------------------------------------- JSON
@@ -691,4 +696,4 @@ def test_world_coordinate_system_of_the_context_applied(ifc_builder, tmp_path):
     st0 = t.buildings[0].storeys[0]
     assert st0.elevation_m == pytest.approx(10.0)  # placement z; Elevation attribute 0 disagrees
     assert st0.slabs[0].centroid_m == pytest.approx((112.0, 58.0))
-    assert any("differs from its placement" in w for w in t.warnings)
+    assert any("differs from its placement" in w for w in _warnings(t))

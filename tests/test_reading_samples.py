@@ -24,6 +24,11 @@ from swayscreen.pipeline.takeoff_json import takeoff_to_dict
 
 REL = 1e-6  # the generator writes its inputs exactly; round-off only
 
+def _warnings(t) -> list[str]:
+    """File warnings and every building's warnings."""
+    return list(t.warnings) + [w for b in t.buildings for w in b.warnings]
+
+
 
 @pytest.fixture(scope="module")
 def specs(sample_models):
@@ -226,7 +231,7 @@ def test_duplex(shared):
     assert [s.above_grade for s in st_] == [False, True, True, True]  # nearest-zero ground rule
     assert [round(s.elevation_m, 6) for s in st_] == [-1.25, 0.0, 3.1, 6.0]  # SOURCES.md (float noise removed)
     # 21 IfcSlab: the 10-20 mm finish layers are dropped (SOURCES.md: "10-20 mm finish layers typed FLOOR")
-    finishes = [re.search(r"(\d+) slabs thinner than 0.06 m treated as finish layers", w) for w in t.warnings]
+    finishes = [re.search(r"(\d+) slabs thinner than 0.06 m treated as finish layers", w) for w in _warnings(t)]
     finishes = [int(m.group(1)) for m in finishes if m]
     assert len(finishes) == 1 and 10 <= finishes[0] <= 15
     assert all(x.thickness_m >= 0.06 for x in _all(t, "slabs"))
@@ -256,7 +261,7 @@ def test_steel_mini_project_slab_levels_detected(shared):
     assert -0.09 in tops and 2.41 in tops
     levels = [round(s.elevation_m, 3) for s in t.buildings[0].storeys]
     assert levels[0] == 0.0 and 2.41 in levels  # the IFC storey at 0 holds the -0.09 level
-    assert any("storey 'Undefined' holds floor slabs at" in w and "split into" in w for w in t.warnings)
+    assert any("storey 'Undefined' holds floor slabs at" in w and "split into" in w for w in _warnings(t))
     cols = _all(t, "columns")
     assert sum(c.from_mesh for c in cols) == 18  # 18 IfcFacetedBrep columns (SOURCES.md)
     assert min(c.base_elevation_m for c in cols) == pytest.approx(-0.6, abs=0.01)  # extents -0.6..7.4 m
@@ -270,7 +275,7 @@ def test_unicode_house_e1_upper_columns_reassigned(shared):
     upper = st_[1].columns
     assert all(c.base_elevation_m == pytest.approx(3.0) for c in upper)
     assert all(c.storey_id == st_[0].global_id for c in upper)  # exported in the ground storey
-    assert any("4 columns contained in storey" in w and "reassigned" in w for w in t.warnings)
+    assert any("4 columns contained in storey" in w and "reassigned" in w for w in _warnings(t))
 
 
 def test_unicode_house_exporters_agree(shared):
@@ -290,7 +295,7 @@ def test_unicode_house_exporters_agree(shared):
 def test_unicode_house_duplicate_slab_left_out(shared):
     # two identical FLOOR slabs at 3.0 m in every export (checked with the geometry engine)
     t = shared["unicode-house-e2.ifc"]
-    assert any("duplicating another slab" in w for w in t.warnings)
+    assert any("duplicating another slab" in w for w in _warnings(t))
     assert [len(s.slabs) for s in t.buildings[0].storeys] == [1, 1, 1]
 
 
