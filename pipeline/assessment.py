@@ -6,8 +6,8 @@ ends in ``_checks``. Status:
 * ``"pass"``: every check passes (or the building is below the wind-sensitivity height);
 * ``"flagged"``: at least one check fails;
 * ``"incomplete"``: the building is wind-sensitive but no comfort or drift check could be
-  computed (for example no lateral system could be read); treated as flagged by the CLI,
-  because a scheme cannot be cleared on missing results.
+  computed (for example no lateral system could be read), or an estimator failed; treated
+  as flagged by the CLI, because a scheme cannot be cleared on missing results.
 """
 from __future__ import annotations
 
@@ -46,7 +46,9 @@ def assess(
     height_m: float | None,
     min_wind_height_m: float,
     missing: tuple[str, ...] = (),
+    failed: tuple[str, ...] = (),
 ) -> Assessment:
+    """Status from the checks; ``failed`` names estimators that raised (never a silent pass)."""
     checks: list[Check] = []
     for name, value in results.items():
         if name.endswith("_checks") and value:
@@ -65,4 +67,7 @@ def assess(
     if not checks:
         reasons.append("no comfort or drift check could be computed; the scheme cannot be cleared")
         return Assessment("incomplete", (), None, tuple(reasons))
+    if failed:
+        reasons.append(f"estimator(s) {', '.join(failed)} failed; the scheme cannot be cleared on partial results")
+        return Assessment("incomplete", tuple(checks), governing, tuple(reasons))
     return Assessment("pass", tuple(checks), governing, tuple(reasons))

@@ -125,6 +125,7 @@ def screen_building(building: BuildingTakeoff, settings: Settings, plugins: Sequ
         height_m=height,
         min_wind_height_m=settings["levels"].min_wind_height_m,
         missing=missing_notes,
+        failed=tuple(f.plugin for f in failures),
     )
     return BuildingScreening(
         building, derived, MappingProxyType(results), tuple(failures), tuple(skipped), assessment, timings
