@@ -13,7 +13,7 @@ def test_flagged_when_any_check_fails_and_governing_is_worst_ratio():
     a = assess({"comfort_checks": (chk(10, 25), chk(30, 25)), "drift_checks": (chk(0.003, 0.002, "-"),)},
                height_m=150, min_wind_height_m=30)
     assert a.status == "flagged"
-    assert a.governing.value == 30  # ratio 1.5 beats 1.2
+    assert a.governing.value == 0.003  # drift ratio 1.5 beats the acceleration ratio 1.2
     assert len(a.flagged) == 2
 
 
