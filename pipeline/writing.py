@@ -173,39 +173,25 @@ class WriteReport:
 # --------------------------------------------------------------------------- ISO 10303-21 values
 
 
+_NOT_BASIC = re.compile(r"[^\x20-\x7e]+")
+
+
+def _encode_run(m: re.Match) -> str:
+    run = m.group(0)
+    if all(ord(c) <= 0xFFFF for c in run):
+        return "\\X2\\" + "".join(f"{ord(c):04X}" for c in run) + "\\X0\\"
+    return "\\X4\\" + "".join(f"{ord(c):08X}" for c in run) + "\\X0\\"
+
+
 def p21_string(text: str) -> str:
     """Quote ``text`` as an ISO 10303-21 string literal.
 
-    Apostrophes are doubled, backslashes doubled, and every character outside printable ASCII is
-    written with the ``\\X2\\`` (UTF-16, BMP) or ``\\X4\\`` (UTF-32) escapes of ISO 10303-21:2002
-    clause 6.4.3.
+    Apostrophes are doubled, backslashes doubled, and every run of characters outside printable
+    ASCII is written with the ``\\X2\\`` (UTF-16, BMP) or ``\\X4\\`` (UTF-32) escapes of
+    ISO 10303-21:2002 clause 6.4.3.
     """
-    out: list[str] = ["'"]
-    run: list[str] = []
-
-    def flush() -> None:
-        if not run:
-            return
-        if all(ord(c) <= 0xFFFF for c in run):
-            out.append("\\X2\\" + "".join(f"{ord(c):04X}" for c in run) + "\\X0\\")
-        else:
-            out.append("\\X4\\" + "".join(f"{ord(c):08X}" for c in run) + "\\X0\\")
-        run.clear()
-
-    for ch in text:
-        if 0x20 <= ord(ch) <= 0x7E:
-            flush()
-            if ch == "'":
-                out.append("''")
-            elif ch == "\\":
-                out.append("\\\\")
-            else:
-                out.append(ch)
-        else:
-            run.append(ch)
-    flush()
-    out.append("'")
-    return "".join(out)
+    escaped = text.replace("\\", "\\\\").replace("'", "''")
+    return "'" + _NOT_BASIC.sub(_encode_run, escaped) + "'"
 
 
 def p21_real(x: float) -> str:
@@ -485,26 +471,43 @@ def _deterministic_guid(target_gid: str, pset_name: str, what: str) -> str:
 _GUID_NAMESPACE = uuid.uuid5(uuid.NAMESPACE_URL, "urn:swayscreen:ifc-write-back")
 
 
-def _nominal(model, schema_leaves: set[str], prop: Prop, fallbacks: list[str], where: str) -> tuple[_Typed, str]:
-    """Typed NominalValue (in project units) and the description to write."""
-    spec = MEASURES[prop.measure]
-    description = prop.description
-    v = prop.value
-    if prop.measure not in schema_leaves:
-        if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier", "IfcBoolean", "IfcInteger"):
-            raise InputError(f"{where}: {prop.measure} is not a property value type in {model.schema_identifier}")
-        note = f"[unit: {spec.si_symbol}]" if spec.si_symbol else f"[{prop.measure}]"
-        description = f"{description} {note}".strip()
-        fallbacks.append(f"{where}, {prop.name}: {prop.measure} not in {model.schema_identifier}, written as IfcReal {note}")
-        return _Typed("IfcReal", p21_real(float(v))), description
-    if prop.measure == "IfcBoolean":
-        return _Typed(prop.measure, ".T." if v else ".F."), description
-    if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
-        return _Typed(prop.measure, p21_string(str(v))), description
-    if prop.measure == "IfcInteger":
-        return _Typed(prop.measure, str(int(v))), description
-    scale = _unit_scale(model, spec.unit_type)
-    return _Typed(prop.measure, p21_real(float(v) / scale)), description
+@dataclass
+class _Values:
+    """Turns a :class:`Prop` into what the file stores, for one open model."""
+
+    model: object
+    leaves: set[str]  # members of the schema's IfcValue select
+    fallbacks: list[str] = field(default_factory=list)
+    scales: dict[str, float] = field(default_factory=dict)
+
+    def scale(self, unit_type: str | None) -> float:
+        if unit_type not in self.scales:
+            self.scales[unit_type] = _unit_scale(self.model, unit_type)
+        return self.scales[unit_type]
+
+    def stored(self, prop: Prop, where: str) -> tuple[str, Value, str]:
+        """``(type name, value in project units, description)`` for the NominalValue."""
+        spec = MEASURES[prop.measure]
+        v = prop.value
+        if prop.measure not in self.leaves:
+            schema = self.model.schema_identifier
+            if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier", "IfcBoolean", "IfcInteger"):
+                raise InputError(f"{where}: {prop.measure} is not a property value type in {schema}")
+            note = f"[unit: {spec.si_symbol}]" if spec.si_symbol else f"[{prop.measure}]"
+            self.fallbacks.append(f"{where}, {prop.name}: {prop.measure} not in {schema}, written as IfcReal {note}")
+            return "IfcReal", float(v), f"{prop.description} {note}".strip()
+        if prop.measure == "IfcBoolean":
+            return prop.measure, bool(v), prop.description
+        if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
+            return prop.measure, str(v), prop.description
+        if prop.measure == "IfcInteger":
+            return prop.measure, int(v), prop.description
+        return prop.measure, float(v) / self.scale(spec.unit_type), prop.description
+
+    def typed(self, prop: Prop, where: str) -> tuple[_Typed, str]:
+        """The NominalValue as ISO 10303-21 text, and the description."""
+        type_name, value, description = self.stored(prop, where)
+        return _Typed(type_name, _p21_value(value)), description
 
 
 def _owner_history(model, builder: _Builder | None, schema, src: Path) -> int | None:
@@ -565,7 +568,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
     oh = _owner_history(model, builder, schema, src)
     oh_ref = _Ref(oh) if oh is not None else None
 
-    fallbacks: list[str] = []
+    values = _Values(model, leaves)
     n_props = 0
     for ann in annotations:
         where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
@@ -586,7 +589,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
                 raise InputError(f"{where}: GlobalId {gid} already used by #{clash.id()}")
         prop_ids = []
         for prop in ann.props:
-            nominal, description = _nominal(model, leaves, prop, fallbacks, where)
+            nominal, description = values.typed(prop, where)
             prop_ids.append(
                 builder.add(
                     "IfcPropertySingleValue",
@@ -618,7 +621,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
         first_new_id=top + 1 if builder.lines else 0,
         psets_written=len(annotations),
         properties_written=n_props,
-        fallbacks=fallbacks,
+        fallbacks=values.fallbacks,
     )
 
 
@@ -841,22 +844,6 @@ def write_annotated(
 # --------------------------------------------------------------------------- reference writer
 
 
-def _python_value(model, leaves: set[str], prop: Prop, fallbacks: list[str], where: str):
-    """The same typed value as the streamed writer, as an ifcopenshell entity."""
-    nominal, description = _nominal(model, leaves, prop, fallbacks, where)
-    v = prop.value
-    if nominal.type_name == "IfcReal" and prop.measure != "IfcReal":
-        return model.create_entity("IfcReal", float(v)), description
-    if prop.measure == "IfcBoolean":
-        return model.create_entity("IfcBoolean", bool(v)), description
-    if prop.measure in ("IfcLabel", "IfcText", "IfcIdentifier"):
-        return model.create_entity(prop.measure, str(v)), description
-    if prop.measure == "IfcInteger":
-        return model.create_entity(prop.measure, int(v)), description
-    scale = _unit_scale(model, MEASURES[prop.measure].unit_type)
-    return model.create_entity(prop.measure, float(v) / scale), description
-
-
 def write_annotated_reserialise(
     src: Path,
     dst: Path,
@@ -887,7 +874,7 @@ def write_annotated_reserialise(
     oh_id = _owner_history(model, None, schema, src)  # the reference writer never creates one
     owner = model.by_id(oh_id) if oh_id is not None else None
 
-    fallbacks: list[str] = []
+    values = _Values(model, leaves)
     n_props = 0
     before = {e.id() for e in model.by_type("IfcOwnerHistory")}
     for ann in annotations:
@@ -901,7 +888,8 @@ def write_annotated_reserialise(
         pset = ifcopenshell.api.pset.add_pset(model, product=target, name=ann.pset_name)
         props = {}
         for prop in ann.props:
-            nominal, description = _python_value(model, leaves, prop, fallbacks, where)
+            type_name, value, description = values.stored(prop, where)
+            nominal = model.create_entity(type_name, value)
             single = model.create_entity("IfcPropertySingleValue", Name=prop.name, NominalValue=nominal)
             single[1] = description or None  # Description (Specification in IFC4X3)
             props[prop.name] = single
@@ -939,7 +927,7 @@ def write_annotated_reserialise(
         instances_added=n_props + 2 * len(annotations),
         first_new_id=0,
         bytes_written=dst.stat().st_size,
-        fallbacks=tuple(fallbacks),
+        fallbacks=tuple(values.fallbacks),
         validation_errors=errors,
     )
 

@@ -53,6 +53,8 @@ from swayscreen.pipeline.writing import (
 
 SAMPLES = Path(__file__).resolve().parents[1].parent / "shared" / "ifc-samples"
 SAMPLE_FILES = sorted(SAMPLES.glob("*.ifc")) if SAMPLES.is_dir() else []
+# our own invented sample buildings (sample_models/generate.py), when generated
+OWN_SAMPLES = sorted((Path(__file__).resolve().parents[1] / "sample_models").glob("*.ifc"))
 OUR_TYPES = {"IfcPropertySet", "IfcRelDefinesByProperties", "IfcPropertySingleValue"}
 
 
@@ -63,12 +65,24 @@ def sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
+@functools.lru_cache(maxsize=64)
+def _census(path: Path, stamp: tuple[int, int]) -> tuple[Counter, frozenset[str]]:
+    model = ifcopenshell.open(str(path))
+    return Counter(e.is_a() for e in model), frozenset(e.GlobalId for e in model.by_type("IfcRoot"))
+
+
+def census(path: Path) -> tuple[Counter, frozenset[str]]:
+    """Instance counts by type and the GlobalIds of a file (cached while the file is unchanged)."""
+    st_ = path.stat()
+    return _census(path, (st_.st_mtime_ns, st_.st_size))
+
+
 def type_counts(path: Path) -> Counter:
-    return Counter(e.is_a() for e in ifcopenshell.open(str(path)))
+    return Counter(census(path)[0])
 
 
 def global_ids(path: Path) -> set[str]:
-    return {e.GlobalId for e in ifcopenshell.open(str(path)).by_type("IfcRoot")}
+    return set(census(path)[1])
 
 
 def data_endsec(raw: bytes) -> int:
@@ -726,8 +740,11 @@ def test_reference_writer_gives_the_same_properties(models, tmp_path, name):
 needs_samples = pytest.mark.skipif(not SAMPLE_FILES, reason="../shared/ifc-samples not present")
 
 
-@needs_samples
-@pytest.mark.parametrize("src", SAMPLE_FILES, ids=[p.name for p in SAMPLE_FILES])
+@pytest.mark.parametrize(
+    "src",
+    [pytest.param(p, marks=needs_samples) for p in SAMPLE_FILES] + OWN_SAMPLES,
+    ids=[p.name for p in SAMPLE_FILES] + [f"own-{p.name}" for p in OWN_SAMPLES],
+)
 def test_real_samples(src, tmp_path):
     digest = sha256(src)
     anns = sway_annotations(src)
@@ -739,8 +756,7 @@ def test_real_samples(src, tmp_path):
     again = tmp_path / f"again-{src.name}"
     report2 = write_annotated(dst, again, anns)
     assert report2.psets_replaced == len(anns)
-    assert type_counts(again) == type_counts(dst)
-    assert again.read_bytes() == dst.read_bytes()
+    assert again.read_bytes() == dst.read_bytes()  # so also the same counts and values
     # the full statement scanner gives the same bytes as the first-run shortcut
     scanned = tmp_path / f"scanned-{src.name}"
     writing._FAST_COPY = False
@@ -749,9 +765,11 @@ def test_real_samples(src, tmp_path):
     finally:
         writing._FAST_COPY = True
     assert scanned.read_bytes() == dst.read_bytes()
-    # the exports carry some schema errors of their own; writing adds none
-    before, after = validate_output(src), validate_output(dst)
-    assert Counter(after) == Counter(before)
+    # the exports carry some schema errors of their own; writing adds none (our own samples are
+    # validated by their generator's tests; skipped here to keep the suite quick)
+    if src not in OWN_SAMPLES:
+        before, after = validate_output(src), validate_output(dst)
+        assert Counter(after) == Counter(before)
     assert sha256(src) == digest
 
 
