@@ -73,6 +73,7 @@ from pathlib import Path
 
 import numpy as np
 import shapely
+import shapely.errors
 from shapely.geometry import MultiPolygon, Polygon
 
 from .core_settings import LevelSettings
@@ -98,6 +99,8 @@ _USAGE_RULES = [
     ("retail", re.compile(r"retail|\bshops?\b|laden")),
     ("parking", re.compile(r"parking|car ?park|garage|tiefgarage")),
 ]
+_ELEMENT_ERRORS = (AttributeError, TypeError, ValueError, IndexError, KeyError, ZeroDivisionError, RuntimeError,
+                   NotParametric, shapely.errors.GEOSException, np.linalg.LinAlgError)
 _ATTR_COUNT = re.compile(r"Expected (\d+) attribute values, found (\d+) for instance #(\d+)")
 _LAYER_TOL_REL = 0.05
 _LAYER_TOL_ABS = 0.005
@@ -305,6 +308,7 @@ class _Reader:
         self.layer_mismatch: list[str] = []
         self.skipped_openings: list[str] = []
         self.inclined_columns: list[str] = []
+        self.unreadable: list[str] = []
 
     # -- relationships ----------------------------------------------------------------
     def _scan(self) -> None:
@@ -714,7 +718,14 @@ class _Reader:
         for kind, ifc_type, reader in (("slabs", "IfcSlab", self._slab), ("walls", "IfcWall", self._wall),
                                        ("columns", "IfcColumn", self._column)):
             for el in m.by_type(ifc_type):
-                placed = reader(el)
+                try:
+                    placed = reader(el)
+                except InputError:
+                    raise
+                except _ELEMENT_ERRORS as exc:  # malformed entities in real exports: skip, say so
+                    reason = str(exc).strip().splitlines()[0][:120] if str(exc).strip() else ""
+                    self.unreadable.append(f"{_label(el)} ({type(exc).__name__}{': ' + reason if reason else ''})")
+                    continue
                 if placed is None:
                     continue
                 sp = self._spatial_parent(el)
@@ -789,6 +800,9 @@ class _Reader:
         if self.inclined_columns:
             w.append(f"{where}: {_plural(len(self.inclined_columns), 'column')} inclined; section taken from the "
                      f"profile at the base: {_ids(self.inclined_columns)}")
+        if self.unreadable:
+            w.append(f"{where}: {_plural(len(self.unreadable), 'element')} could not be read and "
+                     f"{'was' if len(self.unreadable) == 1 else 'were'} skipped: {_ids(self.unreadable, 3)}")
         if self.materials.dropped:
             w.append(f"{where}: implausible material values ignored: {_ids(self.materials.dropped)}")
         return w
@@ -815,3 +829,6 @@ def read_model(path: str | Path, levels: LevelSettings | None = None) -> Takeoff
         raise
     except RecursionError:
         raise InputError(f"{p}: references nest too deeply to read") from None
+    except _ELEMENT_ERRORS as exc:  # damage outside the elements (units, context, storeys)
+        reason = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        raise InputError(f"{p}: malformed IFC content ({type(exc).__name__}{': ' + reason if reason else ''})") from None

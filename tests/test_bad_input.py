@@ -197,3 +197,44 @@ def test_bare_cr_shared_sample(shared_samples):
     assert b"\n" not in raw
     t = read_model(shared_samples / "unicode-house-e4.ifc")
     assert len(t.buildings[0].storeys) == 3
+
+
+_FUZZ_TYPES = ("IfcExtrudedAreaSolid", "IfcRectangleProfileDef", "IfcArbitraryClosedProfileDef", "IfcPolyline",
+               "IfcAxis2Placement3D", "IfcAxis2Placement2D", "IfcCartesianPoint", "IfcDirection", "IfcLocalPlacement",
+               "IfcShapeRepresentation", "IfcProductDefinitionShape", "IfcBuildingStorey", "IfcRelVoidsElement",
+               "IfcOpeningElement", "IfcWall", "IfcSlab", "IfcColumn")
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(data=st.data())
+def test_damaged_entities_never_crash(ifc_builder, tmp_path_factory, data):
+    """Blank or absurd values in geometric attributes: a takeoff with warnings, or a
+    one-line InputError; never another exception."""
+    b = ifc_builder("IFC4", data.draw(st.sampled_from(["m", "mm"])))
+    s = _valid(b)
+    w = b.f.by_type("IfcWall")[0]
+    b.opening(w, b.rect_profile(1.0, 2.1, centre=(2.5, 1.05)), 0.6, origin=(0, 0.3, 0), z=(0, -1, 0), x=(1, 0, 0))
+    b.column(s, b.rect_profile(0.4, 0.4), (5, 4), 3.0)
+    for _ in range(data.draw(st.integers(1, 3))):
+        cls = data.draw(st.sampled_from(_FUZZ_TYPES))
+        ents = b.f.by_type(cls)
+        if not ents:
+            continue
+        e = data.draw(st.sampled_from(ents))
+        i = data.draw(st.integers(0, len(e) - 1))
+        value = data.draw(st.sampled_from([None, 0.0, -1.0, 1e12, float("nan"), (0.0, 0.0, 0.0), ()]))
+        try:
+            e[i] = value
+        except Exception:  # noqa: BLE001 - a value of the wrong type for this attribute
+            continue
+    p = tmp_path_factory.mktemp("fuzz") / "damaged.ifc"
+    try:
+        b.write(p)
+    except Exception:  # noqa: BLE001 - the writer refuses some damage (e.g. NaN)
+        return
+    try:
+        t = read_model(p)
+    except InputError as exc:
+        assert "\n" not in str(exc) and str(p) in str(exc)
+        return
+    assert t.buildings

@@ -697,3 +697,27 @@ def test_world_coordinate_system_of_the_context_applied(ifc_builder, tmp_path):
     assert st0.elevation_m == pytest.approx(10.0)  # placement z; Elevation attribute 0 disagrees
     assert st0.slabs[0].centroid_m == pytest.approx((112.0, 58.0))
     assert any("differs from its placement" in w for w in _warnings(t))
+
+
+def test_minor_slab_level_does_not_make_a_floor(ifc_builder, tmp_path):
+    b = ifc_builder("IFC4", "m")
+    s0, s1 = b.storey("L0", 0.0), b.storey("L1", 3.5)
+    b.slab(s0, PLATE, 0.25)
+    b.slab(s1, PLATE, 0.25)
+    b.slab(s0, [(1, 1), (3, 1), (3, 3), (1, 3)], 0.2, top=1.75, name="landing-ish")  # 4 m^2 at mid height
+    t = _read(b, tmp_path)
+    assert [s.name for s in t.buildings[0].storeys] == ["L0", "L1"]
+    assert any("minor slab level at 1.75 m (4.0 m^2, 1 slab)" in w for w in _warnings(t))
+    assert "landing-ish" in [x.name for x in t.buildings[0].storeys[0].slabs]
+
+
+def test_floor_plate_union_and_area_weighted_thickness():
+    from swayscreen.pipeline.ifc_floors import floor_plate
+    from swayscreen.pipeline.takeoff import Slab
+
+    a = Slab("a", "a", shapely.box(0, 0, 10, 10), 0.30, 0.0)
+    b_ = Slab("b", "b", shapely.box(10, 0, 15, 10), 0.20, 0.0)
+    roof = Slab("r", "r", shapely.box(0, 0, 15, 10), 0.25, 2.0, "ROOF", sloped=True)
+    union, area, t = floor_plate([a, b_, roof])
+    assert area == pytest.approx(150.0) and union.equals(shapely.box(0, 0, 15, 10))
+    assert t == pytest.approx((100 * 0.30 + 50 * 0.20) / 150)  # sloped roof is not a plate
