@@ -344,7 +344,7 @@ class Geometry:
             m = np.array(up.get_local_placement(p), dtype=float)
         except Exception as exc:  # noqa: BLE001 - the library raises many types here
             raise NotParametric(f"{p.is_a()} #{p.id()}: {exc}") from None
-        parent = getattr(p, "PlacementRelTo", None)
+        parent = attr(p, "PlacementRelTo")
         if parent is not None:  # get_local_placement already composed the parents
             m = np.linalg.solve(np.array(up.get_local_placement(parent), dtype=float), m)
         m[:3, 3] *= self.scale
@@ -406,11 +406,11 @@ class Geometry:
         if c.is_a("IfcCompositeCurve"):
             acc = []
             for seg in c.Segments:
-                parent = getattr(seg, "ParentCurve", None)
+                parent = attr(seg, "ParentCurve")
                 if parent is None:
                     raise NotParametric(f"composite curve segment {seg.is_a()}")
                 p = self._curve_points(parent, depth + 1)
-                if getattr(seg, "SameSense", True) is False:
+                if attr(seg, "SameSense") is False:
                     p = p[::-1]
                 _append(acc, p)
             return np.vstack(acc) if acc else np.zeros((0, 2))
@@ -445,7 +445,7 @@ class Geometry:
 
     def _trimmed(self, c, depth: int) -> np.ndarray:
         basis = c.BasisCurve
-        master = str(getattr(c, "MasterRepresentation", "") or "")
+        master = str(attr(c, "MasterRepresentation") or "")
         sense = bool(c.SenseAgreement) if c.SenseAgreement is not None else True
         if basis.is_a("IfcLine"):
             p0 = np.array((_coords(basis.Pnt) + [0.0])[:2])
@@ -749,7 +749,7 @@ class Geometry:
             return False
         if t in ("IfcTriangulatedFaceSet", "IfcTriangulatedIrregularNetwork", "IfcPolygonalFaceSet"):
             coords = world([[float(v) for v in (list(row) + [0.0])[:3]] for row in it.Coordinates.CoordList])
-            pn = getattr(it, "PnIndex", None)
+            pn = attr(it, "PnIndex")
             remap = (np.array([int(i) - 1 for i in pn]) if pn else None)
 
             def idx(seq) -> np.ndarray:
@@ -758,7 +758,7 @@ class Geometry:
 
             if t == "IfcPolygonalFaceSet":
                 for f in it.Faces:
-                    inner = [coords[idx(r)] for r in (getattr(f, "InnerCoordIndices", None) or ())]
+                    inner = [coords[idx(r)] for r in (attr(f, "InnerCoordIndices") or ())]
                     out.append((coords[idx(f.CoordIndex)], inner))
             else:
                 tri = np.array([[int(i) - 1 for i in row] for row in it.CoordIndex])

@@ -28,6 +28,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from .ifc_geometry import attr
 from .takeoff import Material
 
 __all__ = ["classify", "MaterialReader", "MaterialInfo"]
@@ -124,16 +125,16 @@ class MaterialReader:
 
     # -- properties -----------------------------------------------------------------
     def _read_props(self, props) -> None:
-        mat = getattr(props, "Material", None)
+        mat = attr(props, "Material")
         if mat is None:
             return
         d = self._props.setdefault(mat.id(), {})
-        for attr in ("MassDensity", "YoungModulus", "PoissonRatio"):
-            if hasattr(props, attr):
-                v = _val(getattr(props, attr))
+        for name in ("MassDensity", "YoungModulus", "PoissonRatio"):
+            if attr(props, name) is not None:
+                v = _val(attr(props, name))
                 if v is not None:
-                    d.setdefault(attr, v)
-        plist = getattr(props, "Properties", None) or getattr(props, "ExtendedProperties", None) or ()
+                    d.setdefault(name, v)
+        plist = attr(props, "Properties") or attr(props, "ExtendedProperties") or ()
         for p in plist:
             if p.is_a("IfcPropertySingleValue") and p.Name in ("MassDensity", "YoungModulus", "PoissonRatio"):
                 v = _val(p.NominalValue)
@@ -145,7 +146,7 @@ class MaterialReader:
         if hit is not None:
             return hit
         name = str(m.Name or "").strip() or f"material #{m.id()}"
-        cat, strength = classify(name, getattr(m, "Category", None))
+        cat, strength = classify(name, attr(m, "Category"))
         p = self._props.get(m.id(), {})
         rho = p.get("MassDensity")
         e = p.get("YoungModulus")
@@ -199,7 +200,7 @@ class MaterialReader:
         if sel.is_a("IfcMaterialList"):
             return [(m, 0.0) for m in sel.Materials or ()], None, False
         if sel.is_a("IfcMaterialConstituentSet"):
-            return [(c.Material, _val(getattr(c, "Fraction", None)) or 0.0)
+            return [(c.Material, _val(attr(c, "Fraction")) or 0.0)
                     for c in sel.MaterialConstituents or () if c.Material is not None], None, False
         if sel.is_a("IfcMaterialConstituent"):
             return ([(sel.Material, 0.0)] if sel.Material is not None else []), None, False

@@ -21,6 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .errors import InputError
+from .ifc_geometry import attr
 
 __all__ = ["Units", "read_units", "ModelContext", "read_context", "SI_PREFIX"]
 
@@ -107,8 +108,8 @@ def _unit_factor(unit, where: str, depth: int = 0) -> float:
 def _assignment(model):
     projects = model.by_type("IfcProject")
     for p in projects:
-        if getattr(p, "UnitsInContext", None) is not None:
-            return p.UnitsInContext
+        if attr(p, "UnitsInContext") is not None:
+            return attr(p, "UnitsInContext")
     found = model.by_type("IfcUnitAssignment")
     return found[0] if found else None
 
@@ -125,7 +126,7 @@ def read_units(model, where: str) -> Units:
     units = list(ua.Units or ()) if ua is not None else []
     length_unit = angle_unit = density_unit = modulus_unit = None
     for u in units:
-        utype = getattr(u, "UnitType", None)
+        utype = attr(u, "UnitType")
         if utype == "LENGTHUNIT":
             length_unit = u
         elif utype == "PLANEANGLEUNIT":
@@ -159,7 +160,7 @@ def read_units(model, where: str) -> Units:
         if math.isfinite(f) and f > 0:
             angle = f
         else:
-            warnings.append(f"{where}: plane angle unit '{getattr(angle_unit, 'Name', '?')}' not understood; "
+            warnings.append(f"{where}: plane angle unit '{attr(angle_unit, 'Name') or '?'}' not understood; "
                             "radians assumed")
 
     def _derived(unit, label: str) -> float:
@@ -212,7 +213,7 @@ def read_context(model, axis2_matrix) -> ModelContext:
     if ctx is None:
         return ModelContext(np.eye(4), 0.0)
     wcs = axis2_matrix(ctx.WorldCoordinateSystem) if ctx.WorldCoordinateSystem is not None else np.eye(4)
-    tn = getattr(ctx, "TrueNorth", None)
+    tn = attr(ctx, "TrueNorth")
     angle = 0.0
     if tn is not None and tn.DirectionRatios:
         r = [float(v) for v in tn.DirectionRatios] + [0.0, 0.0]

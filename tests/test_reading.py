@@ -721,3 +721,17 @@ def test_floor_plate_union_and_area_weighted_thickness():
     union, area, t = floor_plate([a, b_, roof])
     assert area == pytest.approx(150.0) and union.equals(shapely.box(0, 0, 15, 10))
     assert t == pytest.approx((100 * 0.30 + 50 * 0.20) / 150)  # sloped roof is not a plate
+
+
+def test_ifc2x3_material_property_entities(ifc_builder, tmp_path):
+    """IFC2X3 keeps mechanical data in IfcGeneralMaterialProperties / IfcMechanicalMaterialProperties."""
+    b = ifc_builder("IFC2X3", "mm")
+    s = b.storey("L0", 0.0)
+    c = b.column(s, b.rect_profile(0.4, 0.4), (0, 0), 3.0)
+    m = b.material([c], "Structural steel S355")
+    f = b.f
+    f.createIfcGeneralMaterialProperties(m, None, None, 7850.0)
+    f.createIfcMechanicalMaterialProperties(m, None, 2.1e11, None, 0.3, None)
+    mat = _read(b, tmp_path).buildings[0].storeys[0].columns[0].material
+    assert (mat.category, mat.strength_class) == ("steel", "S355")
+    assert (mat.density_kg_m3, mat.youngs_modulus_pa, mat.poisson_ratio) == (7850.0, 2.1e11, 0.3)
