@@ -131,8 +131,12 @@ def annotations_for(run, *, when: datetime) -> list:
                 if _finite(peak_by_level.get(i)):
                     pp.append(Prop("PeakAcceleration", peak_by_level[i] * 9.81e-3, "IfcAccelerationMeasure"))
                 anns.append(PsetAnnotation(lv.storey_id, f"{PSET_PREFIX}_StoreySway", tuple(pp)))
+            seen_walls: set[str] = set()
             for core in stick.cores:
                 for wid in core.wall_ids:
+                    if wid in seen_walls:  # a wall shared by two systems keeps its first
+                        continue
+                    seen_walls.add(wid)
                     anns.append(PsetAnnotation(wid, f"{PSET_PREFIX}_CoreWall", (
                         Prop("SystemId", core.id, "IfcIdentifier"),
                         Prop("Closed", bool(core.closed), "IfcBoolean"),
