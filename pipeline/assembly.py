@@ -11,8 +11,9 @@ The idealisation is the classical one for tall buildings with rigid floor diaphr
 * a point (px, py) of floor i moves by ``ux - theta*(py - oy)``, ``uy + theta*(px - ox)``;
 * each cantilever system (``Segment.kind`` "core" or "wall", grouped by ``system_id`` and
   stacked by ``level_index``) is a flexure-and-shear (Timoshenko) beam in the two bending
-  planes plus a St Venant torsion rod; the beam's rotations are condensed out statically
-  onto the floor translations;
+  planes plus a torsion member about its ``centre_m`` (the shear centre): a St Venant rod,
+  or for open cores (``ecw_nm4 > 0``) a Vlasov beam with warping (below); the beam's
+  rotations and the rates of twist are condensed out statically onto the floor freedoms;
 * each frame segment (``kind`` "frame") is a set of storey springs k_x, k_y at its
   ``centre_m`` and k_twist, between floor i-1 (or the base) and floor i.
 
@@ -36,6 +37,31 @@ and where the shear stiffness is the same in both directions it equals the route
 form is used because, with GA_x != GA_y, the shear matrix is not diagonal in the
 principal bending axes, and the rotate-and-build route would drop that coupling.
 A shear stiffness of zero means "shear deformation neglected" (Euler-Bernoulli).
+
+Torsion. With ``ecw_nm4 == 0`` a segment is a St Venant rod, ``GJ/L`` on the twist drift
+of its storey. Where consecutive segments of a stack have ``ecw_nm4 > 0`` they form a
+thin-walled (Vlasov) torsion beam, ``E C_w phi'''' - GJ phi'' = m_t`` (V. Z. Vlasov,
+*Thin-walled elastic beams*, 1961; N. S. Trahair, *Flexural-Torsional Buckling of
+Structures*, 1993, the finite-element chapter; from memory), with two freedoms per node:
+the twist phi (the floor's twist: floors are rigid, so every plan point twists alike) and
+the rate of twist phi' (the warping freedom). Cubic (Hermite) interpolation of phi gives
+the standard element (:func:`torsion_element`)::
+
+    K = E C_w / L^3 [[12, 6L, -12, 6L], [6L, 4L^2, -6L, 2L^2], ...]      (Euler-Bernoulli form)
+      + GJ / (30 L) [[36, 3L, -36, 3L], [3L, 4L^2, -3L, -L^2],
+                     [-36, -3L, 36, -3L], [3L, -L^2, -3L, 4L^2]]            (integral of GJ phi'^2)
+
+on [phi1, phi1', phi2, phi2'] -- the second matrix has the form of the consistent
+geometric stiffness of a beam under axial force (J. S. Przemieniecki, *Theory of Matrix
+Structural Analysis*, 1968, from memory). Warping is restrained (phi' = 0) where such a
+beam starts at the fixed base, and free everywhere else: at its top, and at its bottom
+when it starts higher up (on a transfer structure or on a storey where the core is
+closed or absent; on the safe side). The rates of twist carry no mass and are condensed
+out statically like the bending slopes. Bending and torsion about the shear centre are
+uncoupled in the section, so the two condensations are independent. With ``GJ = 0`` the
+torsion beam is the Euler-Bernoulli cantilever (E C_w for E I); with both it is the
+analogue of the parallel flexure-shear (wall-frame) cantilever, alpha = H sqrt(GJ / E C_w)
+(methods.md section 7).
 
 Supports. A stack whose lowest segment has ``level_index`` 0 is fixed at the base
 (translations and rotations zero). A stack that starts higher (or resumes after a storey
@@ -90,6 +116,8 @@ __all__ = [
     "geometric_stiffness",
     "planar_timoshenko_element",
     "beam_element",
+    "torsion_element",
+    "warping_runs",
     "cantilever_runs",
     "assembly_notes",
     "is_positive_definite",
@@ -140,7 +168,7 @@ def _check_segment(stick: StickModel, s: Segment) -> None:
     if not 0 <= s.level_index < stick.n_levels:
         raise InputError(f"{where}: level index outside 0..{stick.n_levels - 1}")
     vals = (s.length_m, *s.centre_m, s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n,
-            s.gj_nm2, s.k_x_n_m, s.k_y_n_m, s.k_twist_nm_rad)
+            s.gj_nm2, s.ecw_nm4, s.k_x_n_m, s.k_y_n_m, s.k_twist_nm_rad)
     if not _finite(*vals):
         raise InputError(f"{where}: non-finite stiffness or geometry")
     if s.length_m <= 0:
@@ -148,8 +176,8 @@ def _check_segment(stick: StickModel, s: Segment) -> None:
     if s.kind in CANTILEVER_KINDS:
         if s.ei_xx_nm2 <= 0 or s.ei_yy_nm2 <= 0 or s.ei_xx_nm2 * s.ei_yy_nm2 - s.ei_xy_nm2**2 <= 0:
             raise InputError(f"{where}: bending stiffness (EI_xx, EI_yy, EI_xy) is not positive definite")
-        if s.ga_x_n < 0 or s.ga_y_n < 0 or s.gj_nm2 < 0:
-            raise InputError(f"{where}: negative shear or torsional stiffness")
+        if s.ga_x_n < 0 or s.ga_y_n < 0 or s.gj_nm2 < 0 or s.ecw_nm4 < 0:
+            raise InputError(f"{where}: negative shear, torsional or warping stiffness")
     elif s.kind in FRAME_KINDS:
         if s.k_x_n_m < 0 or s.k_y_n_m < 0 or s.k_twist_nm_rad < 0:
             raise InputError(f"{where}: negative storey spring stiffness")
@@ -244,6 +272,37 @@ def _beam_element(ei_xx: float, ei_yy: float, ei_xy: float, ga_x: float, ga_y: f
     return ke
 
 
+def torsion_element(ecw: float, gj: float, length: float) -> np.ndarray:
+    """4x4 thin-walled (Vlasov) torsion element, freedoms [phi1, phi1', phi2, phi2'].
+
+    ``ecw`` = E C_w (N m^4), ``gj`` = G J (N m^2), ``length`` L (m); node 1 at the bottom.
+    E C_w times the Euler-Bernoulli bending element plus G J times the consistent matrix
+    of the integral of phi'^2 under cubic interpolation (module doc). Units N m/rad,
+    N m^2, N m^3.
+    """
+    return _torsion_element(float(ecw), float(gj), float(length)).copy()
+
+
+@lru_cache(maxsize=1024)
+def _torsion_element(ecw: float, gj: float, length: float) -> np.ndarray:
+    L = length
+    bend = (ecw / L**3) * np.array([
+        [12.0, 6 * L, -12.0, 6 * L],
+        [6 * L, 4 * L * L, -6 * L, 2 * L * L],
+        [-12.0, -6 * L, 12.0, -6 * L],
+        [6 * L, 2 * L * L, -6 * L, 4 * L * L],
+    ])
+    stv = (gj / (30.0 * L)) * np.array([
+        [36.0, 3 * L, -36.0, 3 * L],
+        [3 * L, 4 * L * L, -3 * L, -L * L],
+        [-36.0, -3 * L, 36.0, -3 * L],
+        [3 * L, -L * L, -3 * L, 4 * L * L],
+    ])
+    ke = bend + stv
+    ke.setflags(write=False)
+    return ke
+
+
 def _plan_map(centre: Sequence[float], origin: Sequence[float]) -> np.ndarray:
     """2x3 map from floor freedoms (ux, uy, theta) to the translation of a plan point."""
     dx = float(centre[0]) - float(origin[0])
@@ -283,10 +342,33 @@ def cantilever_runs(stick: StickModel) -> list[tuple[str, list[Segment]]]:
     return runs
 
 
+def warping_runs(run: Sequence[Segment]) -> list[list[Segment]]:
+    """Maximal stretches of consecutive segments of one cantilever run with ``ecw_nm4 > 0``
+    (each becomes one Vlasov torsion beam; the other segments stay St Venant rods)."""
+    out: list[list[Segment]] = []
+    cur: list[Segment] = []
+    for s in run:
+        if s.ecw_nm4 > 0:
+            cur.append(s)
+        elif cur:
+            out.append(cur)
+            cur = []
+    if cur:
+        out.append(cur)
+    return out
+
+
 def assembly_notes(stick: StickModel) -> tuple[str, ...]:
     """Plain-language notes on support assumptions made while assembling (one line each)."""
     notes = []
     for sid, run in cantilever_runs(stick):
+        for wr in warping_runs(run):
+            if wr[0].level_index > 0:
+                below = stick.levels[wr[0].level_index - 1].name
+                notes.append(
+                    f"system {sid!r}: warping torsion (open section) from floor {below!r} up, "
+                    "warping taken free there (not restrained)"
+                )
         first, last = run[0], run[-1]
         if first.level_index > 0:
             below = stick.levels[first.level_index - 1].name
@@ -354,6 +436,44 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
 
 
+def _add_warping_run(kg: np.ndarray, run: list[Segment]) -> None:
+    """Assemble one Vlasov torsion beam (module doc), condense its rates of twist, add it
+    to the twist freedoms of the global matrix."""
+    a = run[0].level_index
+    fixed = a == 0  # twist and warping restrained at the base
+    floors = list(range(a if fixed else a - 1, run[-1].level_index + 1))
+    nq = len(floors)
+    nodes = len(run) + 1  # node 0 at the bottom
+
+    def twist(node: int) -> int | None:
+        if fixed:
+            return None if node == 0 else node - 1
+        return node
+
+    wpos: dict[int, int] = {}
+    for node in range(nodes):
+        if node == 0 and fixed:
+            continue
+        wpos[node] = nq + len(wpos)
+    nloc = nq + len(wpos)
+    kl = np.zeros((nloc, nloc))
+    for e, s in enumerate(run):
+        ke = _torsion_element(s.ecw_nm4, s.gj_nm2, s.length_m)
+        local = [twist(e), wpos.get(e), twist(e + 1), wpos[e + 1]]
+        keep = [k for k, c in enumerate(local) if c is not None]
+        cols = [local[k] for k in keep]
+        kl[np.ix_(cols, cols)] += ke[np.ix_(keep, keep)]
+    kqq, kqw, kww = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
+    # K* = Kqq - Kqw Kww^-1 Kwq; Kww is tridiagonal (one rate of twist per node)
+    bw = min(1, kww.shape[0] - 1)
+    ab = np.zeros((bw + 1, kww.shape[0]))
+    for k in range(bw + 1):
+        ab[bw - k, k:] = np.diagonal(kww, k)
+    kc = kqq - kqw @ solveh_banded(ab, kqw.T)
+    idx = np.array([3 * f + 2 for f in floors])
+    kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
+
+
 def _storey_map(n: int, i: int) -> tuple[np.ndarray, np.ndarray]:
     """Indices and 3 x len(idx) map from global freedoms to the drift q_i - q_{i-1}."""
     if i == 0:
@@ -373,10 +493,14 @@ def stiffness_matrix(stick: StickModel, *, p_delta: bool = False, g: float = G_S
     kg = np.zeros((3 * n, 3 * n))
     for _sid, run in cantilever_runs(stick):
         _add_run(kg, stick, run)
+        for wr in warping_runs(run):
+            _add_warping_run(kg, wr)
     for s in stick.segments:
         i = s.level_index
         idx, b = _storey_map(n, i)
         if s.kind in CANTILEVER_KINDS:
+            if s.ecw_nm4 > 0:
+                continue  # part of a Vlasov torsion beam (GJ included there)
             if s.gj_nm2 > 0:  # St Venant torsion rod between the floors
                 kt = s.gj_nm2 / s.length_m
                 row = b[2]

@@ -35,6 +35,11 @@ Rules (DEVELOPERS.md quotes this block):
    (openings not subtracted: gross); torsion, shear areas and shear centre from the
    centre-line model with the free-end refinement of St Venant torsion
    (``free_end_correction=True``, so a single wall gets (b t^3/3)(1 - 0.63 t/b)).
+   The warping constant ``SectionProps.cw_m6`` (Vlasov torsion of open cores, about the
+   shear centre) is carried only for a system whose centre lines form one connected open
+   network (a C, an L, a slit tube); closed cells, cells taken open by the override (the
+   network keeps its cycle) and walls in several unconnected parts carry 0 (see
+   :func:`swayscreen.pipeline.sections.combine_section`: conservative, St Venant only).
 
 Over the height (:func:`find_systems_by_storey`) storeys are taken bottom up; each
 system is matched to a system of the storey below by the largest plan overlap (then to
@@ -384,7 +389,10 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, Secti
     if cut_text:
         note += f"; {cut_text}"
     if tw.n_parts > 1:
-        note += f"; centre lines in {tw.n_parts} unconnected parts (shear centre from their stiffness centre)"
+        note += (f"; centre lines in {tw.n_parts} unconnected parts (shear centre from their stiffness centre;"
+                 " no warping constant taken)")
+    elif kind == "core" and section.cw_m6 > 0.0:
+        note += f"; warping constant C_w = {section.cw_m6:,.1f} m^6 (Vlasov torsion)"
     return kind, section, section.closed, plan, note
 
 

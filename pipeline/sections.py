@@ -53,7 +53,10 @@ as in /work/shared/reference/methods.md section 9):
   equals the classical sectorial-coordinate result (channel: e = 3 b^2 t_f /
   (6 b t_f + h t_w), methods.md section 9).
 * Warping constant C_w (open, connected networks only): the integral of the normalised
-  sectorial coordinate squared, with the pole at the shear centre.
+  sectorial coordinate squared, with the pole at the shear centre (Vlasov, *Thin-walled
+  elastic beams*, 1961, from memory; channel closed form in methods.md section 9).
+  :class:`~swayscreen.pipeline.stick.SectionProps` carries it as ``cw_m6``; closed
+  sections and sections in several parts carry 0 (see :func:`combine_section`).
 * A network in several unconnected parts (walls that touch in plan without a
   centre-line junction, or walls cut through by doors) is treated part by part: J and
   shear areas add; the shear centre is the centre of flexural stiffness of the parts'
@@ -105,6 +108,10 @@ FREE_END_COEFF = 0.105
 
 SQUARE_J_COEFF = 0.1406
 """J / (a b^3) of a square (a = b) from the exact series, 0.14058 (methods.md section 9 [DER])."""
+
+
+_CW_NEGLIGIBLE = 1e-9
+"""C_w below this times I_p^2 / A is round-off, taken as 0 (a channel has about 0.1)."""
 
 
 # ---------------------------------------------------------------------------------------
@@ -725,7 +732,8 @@ def section_props(
 
     Area, centroid, second moments and principal angle come from ``plan`` (the union of
     the wall footprints) when given, else from the centre-line model; shear areas, the
-    torsion constant and the shear centre always come from the centre-line model (see
+    torsion constants (J and the warping constant C_w) and the shear centre always come
+    from the centre-line model (see
     :func:`thin_walled_properties` for the keyword arguments). No cracked-section
     factors are applied.
     """
@@ -737,7 +745,11 @@ def section_props(
 
 def combine_section(tw: ThinWalledProps, plan: PlanShape | None = None) -> SectionProps:
     """:class:`~swayscreen.pipeline.stick.SectionProps` from a centre-line result and,
-    optionally, the plan polygon (which then gives area, centroid and bending)."""
+    optionally, the plan polygon (which then gives area, centroid and bending).
+
+    Torsion (``j_m4``, ``cw_m6``), shear areas and shear centre always come from the
+    centre-line result; ``cw_m6`` is C_w about the shear centre for a single connected
+    open network and 0 otherwise (see :func:`_section_cw`)."""
     if plan is not None:
         pp = polygon_properties(plan)
         area, centroid = pp.area_m2, pp.centroid_m
@@ -758,4 +770,30 @@ def combine_section(tw: ThinWalledProps, plan: PlanShape | None = None) -> Secti
         j_m4=tw.j_m4,
         shear_centre_m=tw.shear_centre_m,
         closed=tw.closed,
+        cw_m6=_section_cw(tw),
     )
+
+
+def _section_cw(tw: ThinWalledProps) -> float:
+    """The warping constant a :class:`SectionProps` carries (m^6), about the shear centre.
+
+    Only a single connected open (tree) network has one (``warping_constant_m6``); 0 for
+    closed cells (Bredt-Batho: warping of a closed cell is negligible against its St Venant
+    stiffness), for networks with a cycle taken open, and for walls in several unconnected
+    parts. For the last, the group's C_w about its common shear centre is not the sum of
+    the parts' own C_w about their own shear centres (about a common pole the sectorial
+    coordinates also hold the parts' translations, which the group's bending constants
+    already represent, and the result depends on how the parts are coupled); rather than
+    model that, no warping term is claimed: the simple choice on the safe side (lower
+    torsional stiffness, longer torsional period).
+    """
+    cw = tw.warping_constant_m6
+    if cw is None or tw.closed or tw.n_parts != 1 or not (math.isfinite(cw) and cw > 0.0):
+        return 0.0
+    # sections whose walls all meet in one point (a single wall, an L, a T, a cross) have
+    # C_w = 0 in thin-walled theory; the sum leaves round-off of order 1e-16 of the scale
+    # (I_p^2 / A, m^6) there, which must not count as a warping stiffness
+    ip = tw.ixx_m4 + tw.iyy_m4
+    if cw <= _CW_NEGLIGIBLE * ip * ip / tw.area_m2:
+        return 0.0
+    return float(cw)

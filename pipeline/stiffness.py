@@ -6,8 +6,14 @@ Cantilevers (cores and separate walls). From the gross plan-section constants
     EI_xx = E I_xx f_w,  EI_yy = E I_yy f_w,  EI_xy = E I_xy f_w     (f_w = wall_flexure_factor)
     GA_x  = G A_s,x f_v, GA_y  = G A_s,y f_v                          (f_v = wall_shear_factor)
     GJ    = G J f_t                                                   (f_t = torsion_factor)
+    EC_w  = E C_w f_t                                                 (warping, open cores)
 
 at the section's shear centre. (EN 1992-1-1 / ACI 318-19 R6.6.3.2.2 for the factors' defaults.)
+The warping stiffness E C_w (Vlasov torsion, N m^4; C_w = ``SectionProps.cw_m6``, nonzero
+only for a single connected open core) takes the same cracked factor as G J: both are
+the torsional stiffness of the same walls, and one factor keeps their ratio, hence the
+Vlasov parameter alpha = H sqrt(GJ / (E C_w)) (methods.md section 7), that of the gross
+section (common practice; no separate code value for cracked warping stiffness is known to us).
 
 Columns. Each column is a storey shear spring in x and y::
 
@@ -112,7 +118,7 @@ def cantilever_segment(system_id: str, kind: str, level_index: int, length_m: fl
         ei_xx_nm2=e_pa * section.ixx_m4 * fw, ei_yy_nm2=e_pa * section.iyy_m4 * fw,
         ei_xy_nm2=e_pa * section.ixy_m4 * fw,
         ga_x_n=g_pa * section.shear_area_x_m2 * fv, ga_y_n=g_pa * section.shear_area_y_m2 * fv,
-        gj_nm2=g_pa * section.j_m4 * ft, section=section)
+        gj_nm2=g_pa * section.j_m4 * ft, ecw_nm4=e_pa * section.cw_m6 * ft, section=section)
 
 
 def cantilever_storey_stiffness(ei_nm2: float, ga_n: float, h_m: float) -> float:

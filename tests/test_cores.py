@@ -26,6 +26,7 @@ from swayscreen.pipeline.cores import (
     find_systems_by_storey,
     wall_segments,
 )
+from swayscreen.pipeline.sections import WallSegment, thin_walled_properties
 from swayscreen.pipeline.stick import CoreSummary, SectionProps
 from swayscreen.pipeline.takeoff import Storey, Wall, WallOpening
 
@@ -162,6 +163,54 @@ def test_three_walls_in_a_c_are_one_open_core():
     # squares and the walls' own t^3 terms: 0.3 % more here
     assert s.section.ixx_m4 == pytest.approx(51.20, rel=3e-3)
     assert s.section.ixx_m4 > 51.20
+
+
+@pytest.mark.parametrize(("t_web", "cw"), [(0.3, 89.600), (0.5, 106.057)])
+def test_c_core_warping_constant_reaches_section_props(t_web, cw):
+    # methods.md s.9 channel b = 4, h = 8, t_f = 0.3: C_w = 89.600 m^6 (t_w = 0.3) and
+    # 106.057 m^6 (t_w = 0.5), about the shear centre; the flanges butt against the web face,
+    # so the trimmed centre lines are exactly the channel's. Tolerance 1e-4 (closed form).
+    hw = t_web / 2
+    walls = [wall("web", (0.0, -T / 2), (0.0, 8 + T / 2), t_web), wall("f1", (hw, 0.0), (4.0, 0.0)),
+             wall("f2", (hw, 8.0), (4.0, 8.0))]
+    s = only(find_systems(walls, AUTO))
+    assert s.kind == "core" and not s.closed
+    assert s.section.cw_m6 == pytest.approx(cw, rel=REL)
+    assert "warping constant C_w" in s.note
+    # over the height the summary carries the same section
+    storeys = [Storey(f"S{k}", f"L{k}", H * k, H, True, (), tuple(replace(w, global_id=f"{w.global_id}{k}",
+                                                                           base_elevation_m=H * k) for w in walls))
+               for k in range(3)]
+    by_storey, summaries, _ = find_systems_by_storey(storeys, AUTO)
+    assert [c.section.cw_m6 for c in summaries] == pytest.approx([cw], rel=REL)
+    assert all(sys_[0].section.cw_m6 == pytest.approx(cw, rel=REL) for sys_ in by_storey.values())
+
+
+def test_warping_constant_only_for_one_connected_open_network():
+    # the documented rule (sections.combine_section): closed cells and cells taken open by
+    # the override carry no warping constant, nor do walls in several unconnected parts
+    assert only(find_systems(box_walls(), AUTO)).section.cw_m6 == 0.0
+    s = only(find_systems(box_walls(), replace(AUTO, core_cells="open")))
+    assert s.section.cw_m6 == 0.0 and "warping" not in s.note
+    # a door cutting the box at mid-length of its south wall (door centre 4.0 m along the
+    # centre line): the slit tube is one open network and keeps the centre-line value of
+    # sections (checked there against finite elements)
+    slit = only(find_systems(box_walls(south_openings=[door(3.3, start=3.65, end=4.65)]), AUTO))
+    ref = thin_walled_properties([WallSegment((0.0, 0.0), (8.0, 0.0), T, (4.0,)), WallSegment((8.0, 0.0), (8.0, 6.0), T),
+                                  WallSegment((8.0, 6.0), (0.0, 6.0), T), WallSegment((0.0, 6.0), (0.0, 0.0), T)])
+    assert not slit.closed and ref.warping_constant_m6 > 100.0
+    assert slit.section.cw_m6 == pytest.approx(ref.warping_constant_m6, rel=1e-9)
+    # a channel with a wall against the back of its web (footprints touch, centre lines
+    # parallel 0.3 m apart: two unconnected parts) gets none
+    h = T / 2
+    c = [wall("web", (0.0, -h), (0.0, 8 + h)), wall("f1", (h, 0.0), (4.0, 0.0)), wall("f2", (h, 8.0), (4.0, 8.0))]
+    s = only(find_systems(c + [wall("back", (-T, 1.0), (-T, 7.0))], AUTO))
+    assert s.kind == "core" and s.section.cw_m6 == 0.0
+    assert "2 unconnected parts" in s.note and "no warping constant" in s.note
+    # L and single walls: C_w = 0 in thin-walled theory (all walls meet in one point)
+    ell = only(find_systems([wall("a", (0.0, 0.0), (4.0, 0.0)), wall("b", (0.0, h), (0.0, 5.0))], AUTO))
+    assert ell.kind == "core" and ell.section.cw_m6 == 0.0
+    assert only(find_systems([wall("a", (0.0, 0.0), (5.0, 2.0))], AUTO)).section.cw_m6 == 0.0
 
 
 def test_separate_walls_partitions_and_load_bearing_flags():
