@@ -40,7 +40,7 @@ from shapely.geometry.base import BaseGeometry
 from .errors import InputError
 
 __all__ = [
-    "NotParametric", "Prism", "Geometry", "MeshBody", "mesh_body", "polygonal",
+    "NotParametric", "Unsupported", "Prism", "Geometry", "MeshBody", "mesh_body", "polygonal",
     "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical", "prism_plan_parts",
     "Profile", "attr",
     "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH", "faces_body", "triangles_body",
@@ -61,7 +61,13 @@ _EYE4.flags.writeable = False
 
 
 class NotParametric(Exception):
-    """The body (or a profile/curve in it) cannot be read parametrically."""
+    """The body (or a profile/curve in it) cannot be read parametrically: its data is
+    damaged or degenerate (no area, missing parameters, zero directions...)."""
+
+
+class Unsupported(NotParametric):
+    """The body uses a representation type this reader does not parse (curved B-reps,
+    CSG, general booleans, B-spline curves...); the geometry engine may read it."""
 
 
 @dataclass(frozen=True)
@@ -408,7 +414,7 @@ class Geometry:
             for seg in c.Segments:
                 parent = attr(seg, "ParentCurve")
                 if parent is None:
-                    raise NotParametric(f"composite curve segment {seg.is_a()}")
+                    raise Unsupported(f"composite curve segment {seg.is_a()}")
                 p = self._curve_points(parent, depth + 1)
                 if attr(seg, "SameSense") is False:
                     p = p[::-1]
@@ -422,7 +428,7 @@ class Geometry:
             b = float(c.Radius) if t == "IfcCircle" else float(c.SemiAxis2)
             centre = m[:2, 3] / self.scale
             return _arc_points(centre, m[:2, 0], m[:2, 1], a, b, 0.0, 2 * math.pi, True)[:-1]
-        raise NotParametric(f"curve {t}")
+        raise Unsupported(f"curve {t}")
 
     def _trim_value(self, trims, basis, centre, ex, ey, a, b, master: str):
         """Angle (conic) or line parameter for a trim select list."""
@@ -476,7 +482,7 @@ class Geometry:
             if p1 and p2:
                 return np.array([(_coords(p1[0]) + [0.0])[:2], (_coords(p2[0]) + [0.0])[:2]])
             return pts if sense else pts[::-1]
-        raise NotParametric(f"trimmed {basis.is_a()}")
+        raise Unsupported(f"trimmed {basis.is_a()}")
 
     def curve_polygon_ring(self, curve) -> np.ndarray:
         """Closed ring (metres) of a profile boundary curve."""
@@ -539,7 +545,7 @@ class Geometry:
                 poly = outer
         elif t == "IfcArbitraryOpenProfileDef" or t == "IfcCenterLineProfileDef":
             if t != "IfcCenterLineProfileDef":
-                raise NotParametric("open profile")
+                raise Unsupported("open profile")
             line = shapely.LineString(self.curve_points(p.Curve) * s)
             poly = line.buffer(g("Thickness") / 2.0, cap_style="flat", join_style="mitre")
         elif t == "IfcDerivedProfileDef":
@@ -615,7 +621,7 @@ class Geometry:
             poly = Polygon([(-b + tw / 2, -h), (tw / 2, -h), (tw / 2, h - tf), (b - tw / 2, h - tf), (b - tw / 2, h),
                             (-tw / 2, h), (-tw / 2, -h + tf), (-b + tw / 2, -h + tf)])
         else:
-            raise NotParametric(f"profile {t}")
+            raise Unsupported(f"profile {t}")
 
         pos = attr(p, "Position") if p.is_a("IfcParameterizedProfileDef") else None
         if pos is not None:
@@ -660,7 +666,7 @@ class Geometry:
                 a, ca = self._item(attr(it, "FirstOperand"), base, depth + 1)
                 b, cb = self._item(second, base, depth + 1)
                 return a + b, ca or cb
-            raise NotParametric(f"{t} {op} with {second.is_a() if second is not None else 'nothing'}")
+            raise Unsupported(f"{t} {op} with {second.is_a() if second is not None else 'nothing'}")
         if t == "IfcMappedItem":
             src = attr(it, "MappingSource")
             m = base @ self.transform_operator(attr(it, "MappingTarget")) @ self.axis2(attr(src, "MappingOrigin"))
@@ -671,7 +677,7 @@ class Geometry:
                 out.extend(p)
                 clipped = clipped or c
             return out, clipped
-        raise NotParametric(t)
+        raise Unsupported(t)
 
     def _extrusion(self, solid, base: np.ndarray) -> Prism:
         # IfcSweptAreaSolid: SweptArea 0, Position 1; IfcExtrudedAreaSolid: ExtrudedDirection 2,
@@ -771,7 +777,7 @@ class Geometry:
             if str(it.Operator) == "DIFFERENCE" and second is not None and second.is_a("IfcHalfSpaceSolid"):
                 self._faces(it.FirstOperand, base, out, depth + 1)
                 return True
-            raise NotParametric(f"{t} {it.Operator}")
+            raise Unsupported(f"{t} {it.Operator}")
         if t == "IfcMappedItem":
             src = it.MappingSource
             m = base @ self.transform_operator(it.MappingTarget) @ self.axis2(src.MappingOrigin)
@@ -779,7 +785,7 @@ class Geometry:
             for sub in src.MappedRepresentation.Items:
                 clipped = self._faces(sub, m, out, depth + 1) or clipped
             return clipped
-        raise NotParametric(t)
+        raise Unsupported(t)
 
     @staticmethod
     def _face_set(faces, world, out: list[Face]) -> None:
@@ -793,7 +799,7 @@ class Geometry:
             for bound in bounds:
                 loop = bound[0]
                 if not loop.is_a("IfcPolyLoop"):
-                    raise NotParametric(f"face bound {loop.is_a()}")
+                    raise Unsupported(f"face bound {loop.is_a()}")
                 pts = [p[0] for p in loop[0]]
                 if len(pts) < 3:
                     continue

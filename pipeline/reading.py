@@ -79,7 +79,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
-from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, attr, faces_body, mesh_body, polygonal, prism_footprint,
+from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body, mesh_body, polygonal, prism_footprint,
                            prism_plan_parts,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
 from .ifc_materials import MaterialReader
@@ -428,14 +428,24 @@ class _Reader:
             if clipped and not openings:
                 self.clipped[kind].append(attr(el, "GlobalId"))
             return solid
-        except NotParametric as why:
+        except Unsupported as why:
             reason = str(why).split(" ")[0]
+        except NotParametric as why:  # damaged data in a type we read: no engine on it
+            if not openings:
+                self.no_geometry[kind].append(f"{_label(el)} ({why})")
+            return None
         try:
             faces, clipped = self.geo.items_faces(items, base)
             mb = faces_body(faces)
-        except NotParametric:
+        except Unsupported:
+            # only bodies of types we do not parse go to the engine; it can crash the
+            # process on damaged data, so data we recognise as damaged never reaches it
             clipped = False
             mb = mesh_body(el)
+        except NotParametric as why:
+            if not openings:
+                self.no_geometry[kind].append(f"{_label(el)} ({why})")
+            return None
         if mb is None:
             if not openings:
                 self.no_geometry[kind].append(f"{_label(el)} ({reason})")
