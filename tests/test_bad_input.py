@@ -91,7 +91,7 @@ def test_truncated_shared_sample(shared_samples, tmp_path):
     _one_line_error(p, "truncated or corrupt")
 
 
-@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=30, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(frac=st.floats(0.0, 0.995))
 def test_truncated_anywhere(ifc_builder, tmp_path_factory, frac):
     b = ifc_builder("IFC4", "mm")
@@ -205,7 +205,7 @@ _FUZZ_TYPES = ("IfcExtrudedAreaSolid", "IfcRectangleProfileDef", "IfcArbitraryCl
                "IfcOpeningElement", "IfcWall", "IfcSlab", "IfcColumn")
 
 
-@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=60, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(data=st.data())
 def test_damaged_entities_never_crash(ifc_builder, tmp_path_factory, data):
     """Blank or absurd values in geometric attributes: a takeoff with warnings, or a
