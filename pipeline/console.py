@@ -93,9 +93,10 @@ def takeoff_text(takeoff, derived_list) -> str:
             if d.stick.cores:
                 lines.append("")
                 lines.append(table(
-                    ["system", "walls", "closed", "area m2", "Ixx m4", "Iyy m4", "J m4", "note"],
+                    ["system", "walls", "closed", "area m2", "Ixx m4", "Iyy m4", "J m4", "Cw m6", "note"],
                     [[c.id, len(c.wall_ids), "yes" if c.closed else "no", _f(c.section.area_m2, 2),
-                      _f(c.section.ixx_m4, 1), _f(c.section.iyy_m4, 1), _f(c.section.j_m4, 3), c.note]
+                      _f(c.section.ixx_m4, 1), _f(c.section.iyy_m4, 1), _f(c.section.j_m4, 3),
+                      _f(c.section.cw_m6, 1) if c.section.cw_m6 else "-", c.note]
                      for c in d.stick.cores]))
         if d.materials_used:
             lines.append("")

@@ -161,8 +161,8 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
 
 def _restrains_twist(segs: Sequence[Segment]) -> bool:
     """True when a storey's segments give it torsional stiffness: a frame with k_twist > 0, a
-    cantilever with GJ > 0, or systems at two or more distinct plan points."""
-    if any(s.k_twist_nm_rad > 0 or s.gj_nm2 > 0 for s in segs):
+    cantilever with GJ > 0 or warping stiffness E C_w > 0, or systems at two or more distinct plan points."""
+    if any(s.k_twist_nm_rad > 0 or s.gj_nm2 > 0 or s.ecw_nm4 > 0 for s in segs):
         return True
     return len({(round(s.centre_m[0], 6), round(s.centre_m[1], 6)) for s in segs}) > 1
 

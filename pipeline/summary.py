@@ -219,7 +219,7 @@ def takeoff_json(base: dict[str, Any], takeoff, derived_list) -> dict[str, Any]:
         bdict["cores"] = [
             {"id": c.id, "wall_ids": list(c.wall_ids), "closed": bool(c.closed), "area_m2": _num(c.section.area_m2),
              "ixx_m4": _num(c.section.ixx_m4), "iyy_m4": _num(c.section.iyy_m4), "j_m4": _num(c.section.j_m4),
-             "note": c.note}
+             "cw_m6": _num(c.section.cw_m6), "note": c.note}
             for c in (stick.cores if stick else ())
         ]
         bdict["materials_used"] = list(d.materials_used)
