@@ -250,6 +250,7 @@ class Geometry:
         self._profile_by_value: dict[tuple, Profile] = {}
         self._curve: dict[int, np.ndarray] = {}
         self._dirs: dict[int, tuple[float, float, float] | None] = {}
+        self._ops: dict[int, np.ndarray] = {}
 
     # -- placements ------------------------------------------------------------------
     def _dir3(self, d) -> tuple[float, float, float] | None:
@@ -357,28 +358,36 @@ class Geometry:
         return m
 
     def transform_operator(self, op) -> np.ndarray:
-        """IfcCartesianTransformationOperator (2D/3D, uniform or not) as a 4x4 matrix."""
-        m = np.eye(4)
+        """IfcCartesianTransformationOperator (2D/3D, uniform or not) as a 4x4 matrix; memoised."""
         if op is None:
-            return m
+            return _EYE4
+        hit = self._ops.get(op.id())
+        if hit is not None:
+            return hit
         origin = (_coords(attr(op, "LocalOrigin")) + [0.0, 0.0, 0.0])[:3]
         sc = attr(op, "Scale")
         s1 = float(sc) if sc is not None else 1.0
         s2 = float(attr(op, "Scale2") or s1)
         s3 = float(attr(op, "Scale3") or s1)
-        a1 = _ratios(attr(op, "Axis1")) if attr(op, "Axis1") is not None else None
-        a2 = _ratios(attr(op, "Axis2")) if attr(op, "Axis2") is not None else None
-        a3 = _ratios(attr(op, "Axis3")) if attr(op, "Axis3") is not None else None
+        a1 = self._dir3(attr(op, "Axis1"))
+        a2 = self._dir3(attr(op, "Axis2"))
+        a3 = self._dir3(attr(op, "Axis3"))
         # IFC BaseAxis function: z first, then x projected, then y completes the frame.
-        z = _unit(a3, np.array([0.0, 0.0, 1.0])) if a3 is not None else np.array([0.0, 0.0, 1.0])
-        x = a1 if a1 is not None else (np.array([1.0, 0.0, 0.0]) if abs(z[0]) < 0.9 else np.array([0.0, 1.0, 0.0]))
-        x = x - float(x @ z) * z
-        x = _unit(x, np.array([1.0, 0.0, 0.0]))
-        y = np.cross(z, x)
-        if a2 is not None and float(a2 @ y) < 0:  # keep a mirrored frame when Axis2 says so
-            y = -y
-        m[:3, 0], m[:3, 1], m[:3, 2] = x * s1, y * s2, z * s3
-        m[:3, 3] = np.array(origin) * self.scale
+        z = a3 or (0.0, 0.0, 1.0)
+        x = a1 or ((1.0, 0.0, 0.0) if abs(z[0]) < 0.9 else (0.0, 1.0, 0.0))
+        k = x[0] * z[0] + x[1] * z[1] + x[2] * z[2]
+        x = (x[0] - k * z[0], x[1] - k * z[1], x[2] - k * z[2])
+        n = math.sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2])
+        x = (x[0] / n, x[1] / n, x[2] / n) if n > 1e-12 else (1.0, 0.0, 0.0)
+        y = (z[1] * x[2] - z[2] * x[1], z[2] * x[0] - z[0] * x[2], z[0] * x[1] - z[1] * x[0])
+        if a2 is not None and a2[0] * y[0] + a2[1] * y[1] + a2[2] * y[2] < 0:  # mirrored frame
+            y = (-y[0], -y[1], -y[2])
+        sc_ = self.scale
+        m = np.array([[x[0] * s1, y[0] * s2, z[0] * s3, origin[0] * sc_],
+                      [x[1] * s1, y[1] * s2, z[1] * s3, origin[1] * sc_],
+                      [x[2] * s1, y[2] * s2, z[2] * s3, origin[2] * sc_],
+                      [0.0, 0.0, 0.0, 1.0]])
+        self._ops[op.id()] = m
         return m
 
     # -- curves ----------------------------------------------------------------------
