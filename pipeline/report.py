@@ -11,6 +11,7 @@ from __future__ import annotations
 import html
 import io
 import math
+import warnings
 from datetime import datetime, timezone
 from typing import Any
 
@@ -358,7 +359,11 @@ def render_report(run, *, when: datetime | None = None) -> str:
         out.append("<h2>Natural periods</h2>" + _modes_table(b))
         out.append("<h2>Plots</h2>")
         for maker in (_mode_plot, _comfort_plot, _damper_plot, _profile_plot, _plan_plot):
-            svg = maker(plt, b)
+            with warnings.catch_warnings():
+                # SVG keeps text as text (svg.fonttype none): the browser draws glyphs such as CJK
+                # storey names that matplotlib's bundled font lacks, so its warning is moot here.
+                warnings.filterwarnings("ignore", message=r"Glyph .* missing from font")
+                svg = maker(plt, b)
             if svg:
                 out.append(svg)
         out.append("<h2>Assumptions and warnings</h2>")

@@ -93,6 +93,8 @@ def screening_text(run) -> str:
         gov = b.assessment.governing
         out.append("")
         status = f"STATUS: {_STATUS[b.assessment.status]}"
+        if any("not wind-sensitive" in r for r in b.assessment.reasons):
+            status += " (not wind-sensitive: below the screening height)"
         if gov is not None:
             status += f" - governing: {gov.criterion} ({gov.method}) {gov.value:.3g} {gov.unit} vs limit {gov.limit:.3g}"
         out.append(status)
