@@ -123,6 +123,16 @@ def _git_commit() -> str | None:
         return None
 
 
+def _dirty_files() -> list[str]:
+    """Uncommitted changes to the measured code (the benchmark times the working tree)."""
+    try:
+        st = subprocess.run(["git", "status", "--porcelain", "--", "pipeline", "plugins"], cwd=REPO,
+                            capture_output=True, text=True, check=True).stdout
+    except (OSError, subprocess.CalledProcessError):
+        return []
+    return [line[3:] for line in st.splitlines()]
+
+
 def _versions() -> dict:
     code = "import ifcopenshell, numpy, scipy, shapely, matplotlib; print(ifcopenshell.version, numpy.__version__, " \
            "scipy.__version__, shapely.__version__, matplotlib.__version__)"
@@ -162,6 +172,7 @@ def main(argv: list[str] | None = None) -> int:
         "meta": {
             "date": time.strftime("%Y-%m-%d %H:%M:%S"), "python": platform.python_version(),
             "machine": platform.machine(), "cpus": os.cpu_count(), "commit": _git_commit(),
+            "uncommitted": _dirty_files(),
             "versions": _versions(), "runs": a.runs, "runs_largest": a.runs_largest or a.runs,
             "stages": stages, "command": " ".join([Path(sys.argv[0]).name, *sys.argv[1:]]),
             "load_average_start": os.getloadavg(),
