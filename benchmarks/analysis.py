@@ -209,6 +209,9 @@ def targets(med: dict, expo: dict, largest: str, ms: list[Metric]) -> list[dict]
         note = f"{100 * share:.1f}% of open" if share is not None else ""
         if share is not None and share < NEGLIGIBLE_SHARE:
             note += " (negligible)"
+        ys = [r[m.key] for r in med.values() if r[m.key] is not None]
+        if ys and min(ys) < 1e-3 <= max(ys) and max(ys) > 100 * min(ys):
+            note += "; does almost no work on the smaller towers, so the exponent says little"
         add(f"exponent: {m.label}", expo.get(m.key), EXPONENT_MAX, "<=", note)
     for key in ("e2e_wall", "e2e_mem"):
         label = next(m.label for m in ms if m.key == key)

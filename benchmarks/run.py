@@ -38,6 +38,7 @@ sys.path.insert(0, str(HERE))
 from analysis import analyse, table, targets_text  # noqa: E402  (a sibling helper, standard library only)
 
 STAGES = ("open", "open_lazy", "pipeline", "e2e", "naive", "reserialise")
+BLAS_VARS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
 
 
 def _spawn(cmd: list[str], log: Path) -> tuple[int, dict]:
@@ -152,12 +153,17 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--stages", nargs="+", choices=STAGES, default=list(STAGES),
                    help="stages to run (default: all; open is always run, it is the reference)")
     p.add_argument("--regenerate", action="store_true", help="regenerate the towers even when cached")
+    p.add_argument("--blas-threads", type=int, metavar="N",
+                   help="set OPENBLAS/OMP/MKL_NUM_THREADS=N for every child (default: leave the environment as is)")
     p.add_argument("--clock", choices=["wall", "cpu"], default="wall",
                    help="times in the printed table: wall clock or CPU seconds (default: %(default)s; "
                         "both are recorded, and the targets are printed for both)")
     a = p.parse_args(argv)
 
     t_start = time.perf_counter()
+    if a.blas_threads is not None:  # inherited by every child process
+        for var in BLAS_VARS:
+            os.environ[var] = str(a.blas_threads)
     out: Path = a.out.resolve()
     out.mkdir(parents=True, exist_ok=True)
     stages = ["open"] + [s for s in STAGES if s in a.stages and s != "open"]
@@ -176,6 +182,7 @@ def main(argv: list[str] | None = None) -> int:
             "versions": _versions(), "runs": a.runs, "runs_largest": a.runs_largest or a.runs,
             "stages": stages, "command": " ".join([Path(sys.argv[0]).name, *sys.argv[1:]]),
             "load_average_start": os.getloadavg(),
+            "blas_env": {v: os.environ.get(v) for v in BLAS_VARS},
         },
         "sizes": {},
     }
