@@ -44,7 +44,7 @@ __all__ = [
     "prism_footprint", "prism_zrange", "prism_volume", "prism_vertices", "prism_is_vertical", "prism_plan_parts",
     "Profile", "attr",
     "circle_polygon", "ARC_STEP_RAD", "CIRCLE_SEGMENTS", "MAX_PLACEMENT_DEPTH", "faces_body", "triangles_body",
-    "Face",
+    "Face", "MAX_COORDINATE_M", "MAX_ELEVATION_M", "MAX_SIZE_M", "implausible_extent",
 ]
 
 ARC_STEP_RAD = math.radians(5.0)
@@ -53,6 +53,19 @@ CIRCLE_SEGMENTS = 64
 """Sides of the area-preserving polygon used for circular profiles."""
 MAX_PLACEMENT_DEPTH = 256
 """Longest IfcLocalPlacement chain accepted (real models nest fewer than 10 levels)."""
+MAX_COORDINATE_M = 1e8
+"""Largest plan coordinate accepted (m). Projected map coordinates stay below it (UTM
+northings reach 1e7 m, zone-prefixed eastings a few 1e7 m; common practice); beyond it a
+value is damage, not a site."""
+MAX_ELEVATION_M = 1e4
+"""Largest |z| accepted for elements and storeys (m): above the highest ground on Earth
+(8849 m) plus the tallest building (828 m), so absolute site elevations pass."""
+MAX_SIZE_M = 1e4
+"""Largest profile dimension, extrusion depth or element extent accepted (m): no building
+element is 10 km long (common practice)."""
+_RAW_MAX = 1e15
+"""Largest magnitude of any number read from the file, in file units, before unit
+conversion: keeps every square and product far from float overflow (1e30 << 1.8e308)."""
 VERTICAL_TOL = 1e-4
 """|1 - cos| below which an extrusion counts as vertical / a profile plane as horizontal (~0.8 deg)."""
 _SIN_TOL = math.sqrt(2 * VERTICAL_TOL)
@@ -139,12 +152,52 @@ def attr(e, name: str):
     return None if i == _MISSING else e.get_argument(i)
 
 
+def _real(v, what: str = "value") -> float:
+    """A number from the file, refused (NotParametric) when NaN, infinite or absurdly large."""
+    x = float(v)
+    if not -_RAW_MAX <= x <= _RAW_MAX:  # also False for NaN
+        raise NotParametric(f"{what} {x:g} is not a usable number")
+    return x
+
+
+def _reals(values, what: str) -> list[float]:
+    r = [float(c) for c in values]
+    for x in r:
+        if not -_RAW_MAX <= x <= _RAW_MAX:
+            raise NotParametric(f"{what} with a value {x:g} that is not a usable number")
+    return r
+
+
+def _checked(a: np.ndarray, what: str) -> np.ndarray:
+    """``a`` unchanged when every entry is finite and of plausible size (NotParametric otherwise)."""
+    if a.size and not float(np.abs(a).max()) <= _RAW_MAX:  # NaN compares False
+        raise NotParametric(f"{what} with a value that is not a usable number")
+    return a
+
+
 def _coords(point) -> list[float]:
-    return [float(c) for c in attr(point, "Coordinates")]
+    return _reals(attr(point, "Coordinates"), "point")
+
+
+def implausible_extent(xmin: float, ymin: float, zmin: float, xmax: float, ymax: float, zmax: float) -> str | None:
+    """Why a world bounding box (m) cannot be a building element, or None when it can.
+
+    Limits: :data:`MAX_COORDINATE_M` in plan, :data:`MAX_ELEVATION_M` vertically,
+    :data:`MAX_SIZE_M` for the extent along each axis. NaN fails every test.
+    """
+    if not (-MAX_COORDINATE_M <= xmin <= xmax <= MAX_COORDINATE_M
+            and -MAX_COORDINATE_M <= ymin <= ymax <= MAX_COORDINATE_M):
+        return f"plan coordinates outside +-{MAX_COORDINATE_M:g} m"
+    if not -MAX_ELEVATION_M <= zmin <= zmax <= MAX_ELEVATION_M:
+        return f"elevations outside +-{MAX_ELEVATION_M:g} m"
+    size = max(xmax - xmin, ymax - ymin, zmax - zmin)
+    if size > MAX_SIZE_M:
+        return f"{size:.3g} m across (over {MAX_SIZE_M:g} m)"
+    return None
 
 
 def _ratios(direction, n: int = 3) -> np.ndarray:
-    r = [float(c) for c in attr(direction, "DirectionRatios")]
+    r = _reals(attr(direction, "DirectionRatios"), "direction")
     r = (r + [0.0, 0.0, 0.0])[:n]
     return np.array(r)
 
@@ -261,7 +314,10 @@ class Geometry:
         hit = self._dirs.get(key, False)
         if hit is not False:
             return hit
-        r = [float(c) for c in d.get_argument(0)] + [0.0, 0.0]
+        r = _reals(d.get_argument(0), f"IfcDirection #{key}") + [0.0, 0.0]
+        big = max(abs(r[0]), abs(r[1]), abs(r[2]))
+        if big > 1.0:  # scale before squaring (huge ratios must not overflow)
+            r = [r[0] / big, r[1] / big, r[2] / big]
         n = math.sqrt(r[0] * r[0] + r[1] * r[1] + r[2] * r[2])
         v = (r[0] / n, r[1] / n, r[2] / n) if n > 1e-12 else None
         self._dirs[key] = v
@@ -278,9 +334,13 @@ class Geometry:
         # IfcPlacement.Location is attribute 0 in IFC2X3, IFC4 and IFC4X3; Axis 1 and
         # RefDirection 2 (3D), RefDirection 1 (2D).
         loc = ap.get_argument(0)
-        c = [float(v) for v in loc.get_argument(0)] if loc is not None and loc.is_a() == "IfcCartesianPoint" else []
+        c = (_reals(loc.get_argument(0), f"IfcCartesianPoint #{loc.id()}")
+             if loc is not None and loc.is_a() == "IfcCartesianPoint" else [])
         c = (c + [0.0, 0.0, 0.0])[:3]
         s = self.scale
+        if max(abs(c[0]), abs(c[1])) * s > MAX_COORDINATE_M or abs(c[2]) * s > MAX_ELEVATION_M:
+            raise NotParametric(f"placement location #{loc.id()} at ({c[0] * s:.3g}, {c[1] * s:.3g}, "
+                                f"{c[2] * s:.3g}) m is out of range")
         if ap.is_a() == "IfcAxis2Placement2D":
             x = self._dir3(ap.get_argument(1)) or (1.0, 0.0, 0.0)
             h = math.hypot(x[0], x[1]) or 1.0
@@ -366,9 +426,11 @@ class Geometry:
             return hit
         origin = (_coords(attr(op, "LocalOrigin")) + [0.0, 0.0, 0.0])[:3]
         sc = attr(op, "Scale")
-        s1 = float(sc) if sc is not None else 1.0
-        s2 = float(attr(op, "Scale2") or s1)
-        s3 = float(attr(op, "Scale3") or s1)
+        s1 = _real(sc, "scale") if sc is not None else 1.0
+        s2 = _real(attr(op, "Scale2") or s1, "scale")
+        s3 = _real(attr(op, "Scale3") or s1, "scale")
+        if not all(1e-6 <= abs(x) <= 1e6 for x in (s1, s2, s3)):
+            raise NotParametric(f"{op.is_a()} #{op.id()} scale ({s1:g}, {s2:g}, {s3:g}) out of range")
         a1 = self._dir3(attr(op, "Axis1"))
         a2 = self._dir3(attr(op, "Axis2"))
         a3 = self._dir3(attr(op, "Axis3"))
@@ -405,9 +467,10 @@ class Geometry:
             raise NotParametric("curve nesting too deep")
         t = c.is_a()
         if t == "IfcPolyline":
-            return np.array([(_coords(p) + [0.0])[:2] for p in c.Points], dtype=float)
+            return _checked(np.array([(_coords(p) + [0.0])[:2] for p in c.Points], dtype=float), "polyline")
         if t == "IfcIndexedPolyCurve":
-            coords = np.array([[float(v) for v in row[:2]] for row in c.Points.CoordList], dtype=float)
+            coords = _checked(np.array([[float(v) for v in row[:2]] for row in c.Points.CoordList], dtype=float),
+                              "point list")
             if not c.Segments:
                 return coords
             acc: list[np.ndarray] = []
@@ -433,8 +496,8 @@ class Geometry:
             return self._trimmed(c, depth)
         if t in ("IfcCircle", "IfcEllipse"):
             m = self.axis2(c.Position)
-            a = float(c.Radius) if t == "IfcCircle" else float(c.SemiAxis1)
-            b = float(c.Radius) if t == "IfcCircle" else float(c.SemiAxis2)
+            a = _real(c.Radius, "radius") if t == "IfcCircle" else _real(c.SemiAxis1, "semi-axis")
+            b = _real(c.Radius, "radius") if t == "IfcCircle" else _real(c.SemiAxis2, "semi-axis")
             centre = m[:2, 3] / self.scale
             return _arc_points(centre, m[:2, 0], m[:2, 1], a, b, 0.0, 2 * math.pi, True)[:-1]
         raise Unsupported(f"curve {t}")
@@ -446,7 +509,7 @@ class Geometry:
             if tsel.is_a("IfcCartesianPoint"):
                 point = np.array((_coords(tsel) + [0.0])[:2])
             else:  # IfcParameterValue
-                param = float(tsel.wrappedValue)
+                param = _real(tsel.wrappedValue, "trim parameter")
         use_param = param is not None and (point is None or master == "PARAMETER")
         conic = basis.is_a("IfcCircle") or basis.is_a("IfcEllipse")
         if use_param:
@@ -464,7 +527,7 @@ class Geometry:
         sense = bool(c.SenseAgreement) if c.SenseAgreement is not None else True
         if basis.is_a("IfcLine"):
             p0 = np.array((_coords(basis.Pnt) + [0.0])[:2])
-            d = _ratios(basis.Dir.Orientation, 2) * float(basis.Dir.Magnitude)
+            d = _ratios(basis.Dir.Orientation, 2) * _real(basis.Dir.Magnitude, "magnitude")
             mag = float(np.linalg.norm(d))
             if mag < 1e-12:
                 raise NotParametric("trimmed line with zero direction")
@@ -477,9 +540,9 @@ class Geometry:
             centre = m[:2, 3] / self.scale
             ex, ey = m[:2, 0], m[:2, 1]
             if basis.is_a("IfcCircle"):
-                a = b = float(basis.Radius)
+                a = b = _real(basis.Radius, "radius")
             else:
-                a, b = float(basis.SemiAxis1), float(basis.SemiAxis2)
+                a, b = _real(basis.SemiAxis1, "semi-axis"), _real(basis.SemiAxis2, "semi-axis")
             t0 = self._trim_value(c.Trim1, basis, centre, ex, ey, a, b, master)
             t1 = self._trim_value(c.Trim2, basis, centre, ex, ey, a, b, master)
             # Parameters run from ex towards ey of the conic's own (possibly mirrored) frame.
@@ -541,7 +604,10 @@ class Geometry:
                 if default is None:
                     raise NotParametric(f"{t} #{p.id()} without {name}")
                 return default
-            return float(v) * s
+            x = _real(v, f"{t} #{p.id()} {name}") * s
+            if not 0.0 < x <= MAX_SIZE_M:  # all are IfcPositiveLengthMeasure
+                raise NotParametric(f"{t} #{p.id()} {name} {x:.3g} m is not a positive length up to {MAX_SIZE_M:g} m")
+            return x
 
         if p.is_a("IfcArbitraryClosedProfileDef"):
             outer = Polygon(self.curve_polygon_ring(p.OuterCurve))
@@ -695,7 +761,9 @@ class Geometry:
         pos = solid.get_argument(1)
         m = base @ self.axis2(pos) if pos is not None else base
         d = self._dir3(solid.get_argument(2)) or (0.0, 0.0, 1.0)
-        depth_f = float(solid.get_argument(3)) * self.scale
+        depth_f = _real(solid.get_argument(3), "extrusion depth") * self.scale
+        if depth_f < 0 or depth_f > MAX_SIZE_M:  # IfcPositiveLengthMeasure; 0 is reported by the reader
+            raise NotParametric(f"extrusion depth {depth_f:.3g} m is not a positive length up to {MAX_SIZE_M:g} m")
         (a, b, c, tx), (e, f, g, ty), (h, i, j, tz) = m[:3].tolist()
         vx = (a * d[0] + b * d[1] + c * d[2]) * depth_f
         vy = (e * d[0] + f * d[1] + g * d[2]) * depth_f
@@ -711,8 +779,6 @@ class Geometry:
         c0 = math.sqrt(a * a + e * e + h * h) or 1.0
         c1 = math.sqrt(b * b + f * f + i * i) or 1.0
         vertical = abs(h) <= _SIN_TOL * c0 and abs(i) <= _SIN_TOL * c1 and abs(abs(direction[2]) - 1.0) < VERTICAL_TOL
-        if depth_f < 0:
-            depth = -depth
         if vertical:
             z0, z1 = tz, tz + vz
             zmin, zmax = (z0, z1) if z0 <= z1 else (z1, z0)
@@ -736,9 +802,12 @@ class Geometry:
         """
         out: list[Face] = []
         clipped = False
-        for it in items:
-            c = self._faces(it, base, out, 0)
-            clipped = clipped or c
+        with np.errstate(all="ignore"):  # damaged coordinates give inf or NaN here: refused below
+            for it in items:
+                c = self._faces(it, base, out, 0)
+                clipped = clipped or c
+        if out:
+            _checked(np.vstack([r for outer, inner in out for r in (outer, *inner)]), "face coordinates")
         return out, clipped
 
     def _faces(self, it, base: np.ndarray, out: list[Face], depth: int) -> bool:

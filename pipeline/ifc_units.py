@@ -99,8 +99,11 @@ def _unit_factor(unit, where: str, depth: int = 0) -> float:
         return _KNOWN_LENGTHS.get(name) or _KNOWN_ANGLES.get(name) or float("nan")
     if unit.is_a("IfcDerivedUnit"):
         f = 1.0
-        for el in unit.Elements or ():
-            f *= _unit_factor(el.Unit, where, depth + 1) ** int(el.Exponent)
+        try:
+            for el in unit.Elements or ():
+                f *= _unit_factor(el.Unit, where, depth + 1) ** int(el.Exponent)
+        except (OverflowError, ZeroDivisionError):  # absurd exponents: not understood
+            return float("nan")
         return f
     return float("nan")
 
@@ -145,6 +148,9 @@ def read_units(model, where: str) -> Units:
                              f"(#{length_unit.id()})")
         scale = SI_PREFIX[length_unit.Prefix]
         name = _LENGTH_NAMES.get(scale, f"{length_unit.Prefix}METRE")
+        if not 1e-6 <= scale <= 1e4:
+            raise InputError(f"{where}: implausible length unit {name} (#{length_unit.id()}); "
+                             "micrometres to kilometres are accepted")
     elif length_unit.is_a("IfcConversionBasedUnit"):
         scale = _unit_factor(length_unit, where)
         name = str(length_unit.Name or "").strip().upper() or "UNNAMED"

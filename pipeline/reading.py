@@ -66,6 +66,7 @@ the file and its elements in ``Takeoff.warnings``, each building's floor correct
 from __future__ import annotations
 
 import math
+import mmap
 import re
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
@@ -79,7 +80,8 @@ from shapely.geometry import MultiPolygon, Polygon
 from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
-from .ifc_geometry import (Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body, mesh_body, polygonal, prism_footprint,
+from .ifc_geometry import (MAX_COORDINATE_M, MAX_ELEVATION_M, MAX_SIZE_M, Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body,
+                           implausible_extent, mesh_body, polygonal, prism_footprint,
                            prism_plan_parts,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
 from .ifc_materials import MaterialReader
@@ -102,6 +104,12 @@ _USAGE_RULES = [
 _ELEMENT_ERRORS = (AttributeError, TypeError, ValueError, IndexError, KeyError, ZeroDivisionError, RuntimeError,
                    NotParametric, shapely.errors.GEOSException, np.linalg.LinAlgError)
 _ATTR_COUNT = re.compile(r"Expected (\d+) attribute values, found (\d+) for instance #(\d+)")
+_NON_UNIQUE = re.compile(r"non-unique GlobalId (\S+)")
+_PARSE_ERROR = re.compile(r"\[error\](?:\s*\[[^\]\n]*\])*\s*([^\n]*?)(?: at offset (\d+))?\s*$", re.M)
+_FILE_SCHEMA = re.compile(rb"FILE_SCHEMA\s*\(\s*\(\s*'([^']*)'", re.I)
+MAX_STOREYS = 1000
+"""Most storeys one building may have: the tallest buildings have under 200 (common
+practice); more is damage or a generated file, and is refused before any element is read."""
 _LAYER_TOL_REL = 0.05
 _LAYER_TOL_ABS = 0.005
 
@@ -132,13 +140,62 @@ def _check_file(p: Path) -> None:
         raise InputError(f"{p}: not an IFC file (no ISO-10303-21 header)")
     if b"END-ISO-10303-21" not in tail.rstrip(b"\x00 \t\r\n\x1a")[-256:]:
         raise InputError(f"{p}: truncated or corrupt IFC file (no END-ISO-10303-21 trailer)")
+    m = _FILE_SCHEMA.search(head)
+    if m:
+        _check_schema(p, m.group(1).decode("ascii", "replace").strip().upper())
+    if not _names_storey(p):
+        raise InputError(f"{p}: no IfcBuildingStorey (the model has no storeys to screen)")
+
+
+def _check_schema(p: Path, schema: str) -> None:
+    if not any(schema == s or schema.startswith(s + "_") for s in SUPPORTED_SCHEMAS):
+        raise InputError(f"{p}: schema {schema} is not supported (IFC2X3, IFC4, IFC4X3 are)")
+
+
+def _names_storey(p: Path) -> bool:
+    """False when the file's bytes never name IFCBUILDINGSTOREY (in any case): such a file has
+    nothing to screen however large it is, and is refused without parsing it (a byte scan
+    runs at memory speed; the parse at a few MB/s)."""
+    with p.open("rb") as fh:
+        with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+            return mm.find(b"IFCBUILDINGSTOREY") >= 0 or re.search(rb"(?i)ifcbuildingstorey", mm) is not None
+
+
+def _instance_at(p: Path, offset: int) -> str:
+    """``#id`` of the instance around byte ``offset`` (for messages), or ''."""
+    try:
+        with p.open("rb") as fh:
+            fh.seek(max(0, offset - 65536))
+            chunk = fh.read(min(offset, 65536))
+    except OSError:
+        return ""
+    found = list(re.finditer(rb"#(\d+)\s*=", chunk))
+    return f"#{found[-1].group(1).decode()}" if found else ""
+
+
+def _log_findings(p: Path, log: str) -> tuple[list[str], set[str]]:
+    """Warnings for what the parser left out, and the GlobalIds it saw more than once."""
+    dup = set(_NON_UNIQUE.findall(log))
+    errors = _PARSE_ERROR.findall(log)
+    warnings = []
+    if errors:
+        msg, offset = errors[0]
+        where = _instance_at(p, int(offset)) if offset else ""
+        warnings.append(f"{p}: the IFC parser could not read {len(errors)} value(s) and left them out (first: "
+                        f"{msg.strip()[:120]}{' in ' + where if where else ''}); the elements using them may be "
+                        "misplaced or skipped")
+    return warnings, dup
 
 
 def open_model(path: str | Path):
     """Open an IFC file with ifcopenshell after the cheap checks; InputError on failure."""
+    return _open_with_log(Path(path))[0]
+
+
+def _open_with_log(p: Path):
+    """The open model and what the parser logged while reading it."""
     import ifcopenshell
 
-    p = Path(path)
     _check_file(p)
     ifcopenshell.get_log()  # drain messages of earlier files
     try:
@@ -151,10 +208,8 @@ def open_model(path: str | Path):
     if bad:
         raise InputError(f"{p}: corrupt IFC file (instance #{bad.group(3)} has {bad.group(2)} of its "
                          f"{bad.group(1)} attributes)")
-    schema = str(getattr(model, "schema_identifier", None) or model.schema).upper()
-    if not any(schema == s or schema.startswith(s + "_") for s in SUPPORTED_SCHEMAS):
-        raise InputError(f"{p}: schema {schema} is not supported (IFC2X3, IFC4, IFC4X3 are)")
-    return model
+    _check_schema(p, str(getattr(model, "schema_identifier", None) or model.schema).upper())
+    return model, log
 
 
 def _schema_name(model) -> str:
@@ -294,12 +349,13 @@ def _label(el) -> str:
 # ---------------------------------------------------------------------------- the reader
 
 class _Reader:
-    def __init__(self, model, path: Path, levels: LevelSettings) -> None:
+    def __init__(self, model, path: Path, levels: LevelSettings, log: str = "") -> None:
         self.model = model
         self.path = path
         self.where = str(path)
         self.levels = levels
-        self.warnings: list[str] = []
+        self.warnings, dup = _log_findings(path, log)
+        self.dup_first = self._duplicates(dup) if dup else {}
         self.mesh_ids: list[str] = []
         self.mesh_types: Counter[str] = Counter()
         self.no_geometry: dict[str, list[str]] = defaultdict(list)
@@ -370,6 +426,33 @@ class _Reader:
             if attr(pset, "Name") == "Pset_WallCommon" and pset.is_a("IfcPropertySet"):
                 return self._pset_load_bearing(pset)
         return None
+
+    def _duplicates(self, dup: set[str]) -> dict[str, int]:
+        """GlobalId -> #id of its first entity, for the GlobalIds several entities share (IFC
+        requires them unique). The first (lowest #id) keeps the GlobalId in the takeoff and
+        gets the write-back; the others are read as ``<GlobalId>#<id>`` (see :meth:`_gid`)."""
+        found: dict[str, list] = defaultdict(list)
+        for e in self.model.by_type("IfcRoot"):
+            g = e.get_argument(0)
+            if g in dup:
+                found[g].append(e)
+        first = {g: min(x.id() for x in es) for g, es in found.items()}
+        if found:
+            shared = [f"{g} ({', '.join(f'#{x.id()} {x.is_a()}' for x in sorted(es, key=lambda x: x.id())[:3])})"
+                      for g, es in found.items()]
+            self.warnings.append(f"{self.where}: {_plural(len(found), 'GlobalId')} shared by several entities (IFC "
+                                 f"requires them unique): {_ids(shared, 3)}; the first keeps it, the others are "
+                                 "read as <GlobalId>#<id> and get no results written back")
+        return first
+
+    def _gid(self, e) -> str:
+        """The takeoff id of an entity: its GlobalId, made unique when the file repeats it."""
+        g = e.get_argument(0)
+        if self.dup_first:
+            first = self.dup_first.get(g)
+            if first is not None and first != e.id():
+                return f"{g}#{e.id()}"
+        return g
 
     def _spatial_parent(self, obj):
         """The storey (or building) an element or space belongs to, via containment/aggregation."""
@@ -450,12 +533,13 @@ class _Reader:
             if not openings:
                 self.no_geometry[kind].append(f"{_label(el)} ({reason})")
             return None
+        solid = _Solid(mb.footprint, mb.zmin, mb.zmax, mb.volume_m3, not mb.sloped, clipped, [], mb)
         if not openings:
             self.mesh_ids.append(attr(el, "GlobalId"))
             self.mesh_types[reason] += 1
             if clipped:
                 self.clipped[kind].append(attr(el, "GlobalId"))
-        return _Solid(mb.footprint, mb.zmin, mb.zmax, mb.volume_m3, not mb.sloped, clipped, [], mb)
+        return solid
 
     def _openings(self, el):
         for op in self.voids.get(el.id(), ()):
@@ -486,7 +570,7 @@ class _Reader:
 
     def _storey_id(self, el) -> str | None:
         sp = self._spatial_parent(el)
-        return attr(sp, "GlobalId") if sp is not None and sp.is_a() == "IfcBuildingStorey" else None
+        return self._gid(sp) if sp is not None and sp.is_a() == "IfcBuildingStorey" else None
 
     def _slab(self, el) -> Placed | None:
         solid = self._solid(el, "slab")
@@ -668,11 +752,31 @@ class _Reader:
                 stack.extend(self.children.get(obj.id(), ()))
         return votes.most_common(1)[0][0] if votes else None
 
-    def _elevation(self, storey) -> float:
+    def _elevation(self, storey) -> float | None:
+        """The storey's elevation (m); None (with a warning) when neither its Elevation nor its
+        placement is a usable number within +-MAX_ELEVATION_M."""
         elev = attr(storey, "Elevation")
         z_pl = None
+        bad = []
+        if elev is not None and not -MAX_ELEVATION_M <= float(elev) * self.geo.scale <= MAX_ELEVATION_M:
+            bad.append(f"Elevation {float(elev) * self.geo.scale:.3g} m")
+            elev = None
         if attr(storey, "ObjectPlacement") is not None:
-            z_pl = float(self.geo.placement(attr(storey, "ObjectPlacement"))[2, 3])
+            try:
+                z_pl = float(self.geo.placement(attr(storey, "ObjectPlacement"))[2, 3])
+            except NotParametric as exc:
+                bad.append(f"placement ({exc})")
+            else:
+                if not -MAX_ELEVATION_M <= z_pl <= MAX_ELEVATION_M:
+                    bad.append(f"placement z {z_pl:.3g} m")
+                    z_pl = None
+        if bad:
+            if elev is None and z_pl is None:
+                self.warnings.append(f"{self.where}: storey {_label(storey)} has no usable elevation "
+                                     f"({'; '.join(bad)}); the storey is left out")
+                return None
+            self.warnings.append(f"{self.where}: storey {_label(storey)}: {'; '.join(bad)} not usable; "
+                                 f"its {'placement' if elev is None else 'Elevation'} is used")
         if elev is None:
             if z_pl is None:
                 self.warnings.append(f"{self.where}: storey {_label(storey)} has neither Elevation nor placement; 0 assumed")
@@ -721,13 +825,21 @@ class _Reader:
                                          "are read as a building of their own")
                 bld_storeys[-1].extend(orphan_storeys)
         storey_bld = {s.id(): bid for bid, ss in bld_storeys.items() for s in ss}
+        for bid, ss in bld_storeys.items():
+            if len(ss) > MAX_STOREYS:
+                b = m.by_id(bid) if bid >= 0 else None
+                name = (b.Name or b.GlobalId) if b is not None else "(no IfcBuilding)"
+                raise InputError(f"{self.where}: building '{name}' has {len(ss)} storeys; more than {MAX_STOREYS} "
+                                 "cannot be screened (the tallest buildings have under 200)")
 
         per_bld: dict[int, dict[str, list[Placed]]] = defaultdict(lambda: {"slabs": [], "walls": [], "columns": []})
         first_bid = next(iter(b.id() for b in buildings if b.id() in bld_storeys), next(iter(bld_storeys)))
         unplaced = 0
+        n_elements = 0
         for kind, ifc_type, reader in (("slabs", "IfcSlab", self._slab), ("walls", "IfcWall", self._wall),
                                        ("columns", "IfcColumn", self._column)):
             for el in m.by_type(ifc_type):
+                n_elements += 1
                 try:
                     placed = reader(el)
                 except InputError:
@@ -738,6 +850,8 @@ class _Reader:
                     continue
                 if placed is None:
                     continue
+                if self.dup_first:
+                    placed.kwargs["global_id"] = self._gid(el)
                 sp = self._spatial_parent(el)
                 if sp is not None and sp.is_a("IfcBuildingStorey"):
                     bid = storey_bld.get(sp.id(), first_bid)
@@ -748,7 +862,13 @@ class _Reader:
                     if len(bld_storeys) > 1:
                         unplaced += 1
                 per_bld[bid][kind].append(placed)
+        self._drop_implausible(per_bld)
         pendings = [p for els in per_bld.values() for lst in els.values() for p in lst]
+        if n_elements and not pendings:
+            why = (self.unreadable[:1] or [x for v in self.no_geometry.values() for x in v][:1]
+                   or [w.split(": ", 1)[-1] for w in self.warnings if w.endswith("; skipped")][:1] or ["no usable body"])
+            raise InputError(f"{self.where}: no slab, wall or column could be read ({n_elements} found; first: "
+                             f"{why[0][:200]}); nothing to screen")
         _materialise([p.kwargs[p.geom_key] for p in pendings if isinstance(p.kwargs[p.geom_key], _Ring)])
         for els in per_bld.values():
             for kind in els:
@@ -765,15 +885,18 @@ class _Reader:
         for bid, ss in bld_storeys.items():
             b = m.by_id(bid) if bid >= 0 else None
             bname = str(b.Name or b.LongName or "") if b is not None else "(no IfcBuilding)"
-            sources = [SourceStorey(s.GlobalId, str(s.Name or s.LongName or s.GlobalId), self._elevation(s),
-                                    self._usage(s)) for s in ss]
+            sources = []
+            for s in ss:
+                z = self._elevation(s)
+                if z is not None:
+                    sources.append(SourceStorey(self._gid(s), str(s.Name or s.LongName or s.GlobalId), z, self._usage(s)))
             els = per_bld[bid]
             try:
                 label = bname or (attr(b, "GlobalId") if b is not None else "")
                 fr = build_storeys(sources, els["slabs"], els["walls"], els["columns"], self.levels, label)
             except InputError as exc:
                 raise InputError(f"{self.where}: {exc}") from None
-            results.append(BuildingTakeoff(global_id=b.GlobalId if b is not None else "", name=bname,
+            results.append(BuildingTakeoff(global_id=self._gid(b) if b is not None else "", name=bname,
                                            storeys=fr.storeys, ground_elevation_m=fr.ground_elevation_m,
                                            warnings=fr.warnings))
         for b in buildings:
@@ -784,6 +907,43 @@ class _Reader:
         return Takeoff(source_path=str(self.path), schema=_schema_name(m), length_unit=units.length_name,
                        length_scale_m=units.length_m, true_north_deg=float(ctx.true_north_deg),
                        buildings=tuple(results), warnings=file_warnings, mesh_elements=tuple(self.mesh_ids))
+
+    def _drop_implausible(self, per_bld) -> None:
+        """Leave out (with a warning naming each) elements whose world extent no building
+        element has (see :func:`.ifc_geometry.implausible_extent`); one vectorised pass."""
+        items = [(els, kind, p) for els in per_bld.values() for kind, lst in els.items() for p in lst]
+        if not items:
+            return
+        shapes = [p.kwargs[p.geom_key] for _, _, p in items]
+        box = np.zeros((len(items), 6))
+        box[:, 2] = [p.zmin for _, _, p in items]
+        box[:, 5] = [p.zmax for _, _, p in items]
+        rings = [i for i, g in enumerate(shapes) if isinstance(g, _Ring)]
+        if rings:
+            coords = [shapes[i].coords for i in rings]
+            starts = np.cumsum([0] + [len(c) for c in coords[:-1]])
+            allc = np.concatenate(coords)
+            box[rings, 0:2] = np.minimum.reduceat(allc, starts)
+            box[rings, 3:5] = np.maximum.reduceat(allc, starts)
+        others = [i for i, g in enumerate(shapes) if not isinstance(g, _Ring)]
+        if others:
+            b = shapely.bounds(np.array([shapes[i] for i in others], dtype=object))
+            box[others] = np.nan_to_num(b[:, [0, 1, 1, 2, 3, 3]], nan=0.0)  # empty shapes: no plan extent
+            box[others, 2] = [items[i][2].zmin for i in others]
+            box[others, 5] = [items[i][2].zmax for i in others]
+        with np.errstate(invalid="ignore", over="ignore"):
+            ok = ((np.abs(box[:, [0, 1, 3, 4]]) <= MAX_COORDINATE_M).all(axis=1)
+                  & (np.abs(box[:, [2, 5]]) <= MAX_ELEVATION_M).all(axis=1)
+                  & ((box[:, 3:] - box[:, :3]) <= MAX_SIZE_M).all(axis=1))
+        if ok.all():
+            return
+        for i in np.flatnonzero(~ok).tolist():
+            els, kind, p = items[i]
+            why = implausible_extent(*box[i].tolist()) or "extent not a finite number"
+            kw = p.kwargs
+            self.no_geometry[kind[:-1]].append(f"{p.cls.__name__} {kw['global_id']}"
+                                               + (f" '{kw['name']}'" if kw.get("name") else "") + f" (body {why})")
+            els[kind].remove(p)
 
     def _summary(self) -> list[str]:
         w = list(self.warnings)
@@ -832,9 +992,9 @@ def read_model(path: str | Path, levels: LevelSettings | None = None) -> Takeoff
     """
     levels = levels or LevelSettings()
     p = Path(path)
-    model = open_model(p)
+    model, log = _open_with_log(p)
     try:
-        return _Reader(model, p, levels).run()
+        return _Reader(model, p, levels, log).run()
     except InputError:
         raise
     except RecursionError:
