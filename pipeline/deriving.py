@@ -19,6 +19,9 @@ coordinates can lie kilometres from (0, 0); taking the origin there would scale 
 twist rows of the matrices by the square of that distance. Results do not depend on the
 choice.
 
+Bounded work: above :data:`MAX_SWAY_FLOORS` floors no stick model is built (reason in
+``missing``).
+
 Graceful degradation: a building with no usable lateral system (no walls, no columns,
 or no core finder) gives ``stick = None`` with the reason in ``missing``, while
 ``levels`` still holds the floors and masses. A storey with no walls or columns of its
@@ -42,7 +45,13 @@ from .stiffness import (ColumnInput, RestraintReport, SlabField, cantilever_segm
                         frame_segment, storey_stiffness_centre)
 from .takeoff import BuildingTakeoff, Storey, Takeoff
 
-__all__ = ["DerivedModel", "derive_stick", "derive_takeoff"]
+__all__ = ["DerivedModel", "derive_stick", "derive_takeoff", "MAX_SWAY_FLOORS"]
+
+MAX_SWAY_FLOORS = 250
+"""Most sway floors a stick model is built for. The tallest buildings built or planned have
+about 170 floors (common practice); the estimators' cost grows with the cube of the floor
+count or faster, so a model beyond this (damage, or a generated file) gets storeys and
+masses but no stick model, with the reason in ``missing``."""
 
 
 @dataclass(frozen=True)
@@ -204,6 +213,12 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
         notes = book.notes()
         return DerivedModel(stick, levels, tuple(book.lines()), tuple(warnings + [n for n in notes if n not in warnings]),
                             tuple(missing), tuple(restraint), layout.base_elevation_m, gross)
+
+    if len(layout.floors) > MAX_SWAY_FLOORS:
+        missing.append(f"stick model: {len(layout.floors)} sway floors, more than the {MAX_SWAY_FLOORS} a stick model "
+                       "is built for (the tallest buildings have about 170); storeys and masses are reported, "
+                       "periods and wind response are not estimated")
+        return done(None)
 
     if not layout.walls and not layout.columns:
         missing.append("lateral system: no walls or columns in the above-grade storeys, so no stick model "

@@ -1,9 +1,19 @@
 """Write every output of a screening run into a folder.
 
 ``DIR/<model>-annotated.ifc`` (a copy of the model with our property sets), ``DIR/report.html``,
-``DIR/summary.json`` and, when anything is flagged, ``DIR/issues.bcfzip``. Each file is
-written to a temporary name and renamed, so an interrupted run leaves no partial output.
-The input model is only read.
+``DIR/summary.json`` and, when anything is flagged, ``DIR/issues.bcfzip``. The input model is
+only read.
+
+Nothing partial is left by an interrupted run: everything slow (the report with its plots,
+the summary, the BCF archive and the annotated copy) is produced first, each file under a
+temporary name beside its final one (``.<name>.<random>.part``); only then are they all
+renamed into place (``os.replace``, atomic on one file system), with Ctrl-C held back for
+those few renames. An interruption before that point removes the temporary files and
+leaves the folder as it was.
+
+Objects whose takeoff id holds a ``#`` or ``/`` (a floor with no storey of its own, a floor
+split off a storey, the second of two entities sharing one GlobalId) get no property sets; numbers that are not finite
+are left out of the sets rather than written.
 
 Our property sets (names are ours; the reserved ``Pset_`` and ``Qto_`` prefixes are not used):
 
@@ -19,15 +29,20 @@ Our property sets (names are ours; the reserved ``Pset_`` and ``Qto_`` prefixes 
 """
 from __future__ import annotations
 
+import contextlib
 import json
 import math
+import os
+import re
+import signal
+import tempfile
+import threading
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any
 
 from . import __version__
 from .console import CAUTION
-from .fileio import atomic_write_text
 
 __all__ = ["annotations_for", "write_outputs", "PSET_PREFIX"]
 
@@ -141,7 +156,37 @@ def annotations_for(run, *, when: datetime) -> list:
                         Prop("SystemId", core.id, "IfcIdentifier"),
                         Prop("Closed", bool(core.closed), "IfcBoolean"),
                     )))
-    return anns
+    return _writable(anns)
+
+
+def _derived_id(gid: str) -> bool:
+    """True for takeoff ids that name no IFC object: ``<GlobalId>#roof`` (a floor with no storey
+    of its own), ``<GlobalId>/<n>`` (a floor split off a storey), ``<GlobalId>#<id>`` (an entity
+    repeating another's GlobalId). Neither character is in the GlobalId alphabet."""
+    return "#" in gid or "/" in gid
+
+
+def _source_id(gid: str) -> str:
+    """The IFC GlobalId a takeoff id comes from (see :func:`_derived_id`)."""
+    return re.split(r"[#/]", gid, maxsplit=1)[0]
+
+
+def _writable(anns: list) -> list:
+    """Only what the writer can attach: objects that exist under their own GlobalId (no ``#`` in
+    the id), each set once per object, finite numbers only, no empty sets."""
+    from .writing import PsetAnnotation
+
+    out = []
+    seen: set[tuple[str, str]] = set()
+    for a in anns:
+        key = (a.global_id, a.pset_name)
+        if not a.global_id or _derived_id(a.global_id) or key in seen:
+            continue
+        seen.add(key)
+        props = tuple(p for p in a.props if not (isinstance(p.value, float) and not math.isfinite(p.value)))
+        if props:
+            out.append(PsetAnnotation(a.global_id, a.pset_name, props))
+    return out
 
 
 def bcf_topics(run) -> list:
@@ -151,10 +196,11 @@ def bcf_topics(run) -> list:
     for b in run.buildings:
         if b.assessment.status == "pass":
             continue
-        storey_ids = {lv.name: lv.storey_id.split("#")[0] for lv in b.derived.levels}
+        storey_ids = {lv.name: _source_id(lv.storey_id) for lv in b.derived.levels}
+        bid = _source_id(b.building.global_id)
         for c in b.assessment.flagged:
-            ids = [b.building.global_id]
-            if c.floor and c.floor in storey_ids:
+            ids = [bid] if bid else []
+            if c.floor and c.floor in storey_ids and storey_ids[c.floor] not in ids:
                 ids.append(storey_ids[c.floor])
             where = f" at {c.floor}" if c.floor else ""
             wind = f", wind from {c.direction_deg:.0f} deg" if c.direction_deg is not None else ""
@@ -166,12 +212,17 @@ def bcf_topics(run) -> list:
                                    labels=("swayscreen", "wind comfort" if c.unit == "mg" else "drift")))
         if b.assessment.status == "incomplete":
             topics.append(BcfTopic("Sway screening: results missing", "; ".join(b.assessment.reasons),
-                                   (b.building.global_id,), labels=("swayscreen",)))
+                                   (bid,) if bid else (), labels=("swayscreen",)))
     return topics
 
 
 def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[str, Path]:
-    """Write annotated IFC, report, summary and (when flagged) BCF; return their paths."""
+    """Write annotated IFC, report, summary and (when flagged) BCF; return their paths.
+
+    All files are produced under temporary names first and renamed into place together at
+    the end (see the module docstring), so an interruption leaves either the complete new
+    set or the folder as it was, and never a temporary file.
+    """
     from .bcf import write_bcfzip
     from .report import render_report
     from .summary import build_summary
@@ -179,26 +230,75 @@ def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[s
 
     when = when or datetime.now(timezone.utc)
     out_dir = Path(out_dir)
-    out_dir.mkdir(parents=True, exist_ok=True)
     src = Path(run.takeoff.source_path)
-    paths: dict[str, Path] = {}
     ifc_out = out_dir / f"{src.stem}-annotated.ifc"
     if ifc_out.resolve() == src.resolve():
         from .errors import InputError
 
         raise InputError(f"{ifc_out}: the output would overwrite the input model; choose another --out folder")
-    write_annotated(src, ifc_out, annotations_for(run, when=when), owner_prefix=PSET_PREFIX)
-    paths["annotated model"] = ifc_out
-    summary = build_summary(run, when=when)
-    atomic_write_text(out_dir / "summary.json", json.dumps(summary, indent=2) + "\n")
-    paths["summary"] = out_dir / "summary.json"
-    atomic_write_text(out_dir / "report.html", render_report(run, when=when))
-    paths["report"] = out_dir / "report.html"
-    topics = bcf_topics(run)
     bcf_path = out_dir / "issues.bcfzip"
+    paths: dict[str, Path] = {"annotated model": ifc_out, "summary": out_dir / "summary.json",
+                              "report": out_dir / "report.html"}
+    # in memory first: everything slow that needs no file
+    annotations = annotations_for(run, when=when)
+    summary_text = json.dumps(build_summary(run, when=when), indent=2) + "\n"
+    report_html = render_report(run, when=when)
+    topics = bcf_topics(run)
     if topics:
-        write_bcfzip(bcf_path, topics, project_name=src.stem, date=when)
         paths["BCF topics"] = bcf_path
-    elif bcf_path.exists():
-        bcf_path.unlink()  # a stale file from an earlier flagged run would mislead
+
+    out_dir.mkdir(parents=True, exist_ok=True)
+    staged: list[tuple[Path, Path]] = []
+    try:
+        tmp = _stage_name(ifc_out)
+        staged.append((tmp, ifc_out))
+        write_annotated(src, tmp, annotations, owner_prefix=PSET_PREFIX)
+        for text, final in ((summary_text, paths["summary"]), (report_html, paths["report"])):
+            tmp = _stage_name(final)
+            staged.append((tmp, final))
+            tmp.write_bytes(text.encode("utf-8"))
+        if topics:
+            tmp = _stage_name(bcf_path)
+            staged.append((tmp, bcf_path))
+            write_bcfzip(tmp, topics, project_name=src.stem, date=when)
+        with _sigint_held():
+            for tmp, final in staged:
+                os.replace(tmp, final)
+            if not topics and bcf_path.exists():
+                bcf_path.unlink()  # a stale file from an earlier flagged run would mislead
+    except BaseException:
+        for tmp, _ in staged:
+            tmp.unlink(missing_ok=True)
+        raise
     return paths
+
+
+def _stage_name(final: Path) -> Path:
+    """A new, empty, uniquely named file beside ``final`` (same file system, so renaming is atomic)."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{final.name}.", suffix=".part", dir=final.parent)
+    os.close(fd)
+    os.chmod(tmp, 0o644)
+    return Path(tmp)
+
+
+@contextlib.contextmanager
+def _sigint_held():
+    """Hold back Ctrl-C (SIGINT) for the duration of the block, then deliver it.
+
+    Only the main thread can install signal handlers; elsewhere the block runs unguarded
+    (the renames take microseconds)."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    caught: list[tuple] = []
+    try:
+        previous = signal.signal(signal.SIGINT, lambda *a: caught.append(a))
+    except (ValueError, OSError):  # not allowed here (embedded interpreter)
+        yield
+        return
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, previous if previous is not None else signal.default_int_handler)
+    if caught:
+        raise KeyboardInterrupt

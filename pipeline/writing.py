@@ -38,7 +38,9 @@ Re-running
 
 GlobalIds
     Deterministic: ``uuid5`` of the target GlobalId and the set name, compressed to the 22-character
-    IFC form, so reruns are reproducible.
+    IFC form, so reruns are reproducible. A target GlobalId that several entities share (IFC
+    requires it unique; the parser reports it) gets its set on the first of them (lowest ``#id``)
+    when that one can carry a property set, else on none; :attr:`WriteReport.notes` says which.
 
 Owner history
     IFC2X3 requires ``OwnerHistory`` on every IfcRoot: the file's first ``IfcOwnerHistory`` (lowest
@@ -168,6 +170,7 @@ class WriteReport:
     bytes_written: int
     fallbacks: tuple[str, ...] = ()
     validation_errors: tuple[str, ...] | None = None
+    notes: tuple[str, ...] = ()
 
 
 # --------------------------------------------------------------------------- ISO 10303-21 values
@@ -318,6 +321,10 @@ class _Plan:
     psets_written: int
     properties_written: int
     fallbacks: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+
+_NON_UNIQUE = re.compile(r"non-unique GlobalId (\S+)")
 
 
 def _open(src: Path, *, lazy: bool):
@@ -325,11 +332,51 @@ def _open(src: Path, *, lazy: bool):
 
     if not src.is_file():
         raise InputError(f"{src}: no such file")
+    ifcopenshell.get_log()  # drain messages of earlier files
     try:
         model = ifcopenshell.open(str(src), lazy=lazy) if lazy else ifcopenshell.open(str(src))
     except Exception as exc:  # ifcopenshell raises several kinds; all mean an unreadable model
         raise InputError(f"{src}: cannot read as IFC ({exc})") from None
     return model
+
+
+class _Targets:
+    """Finds the entity a GlobalId names; for a GlobalId the file repeats, the first of them.
+
+    Call right after :func:`_open`: the parser's log of that open names the repeated GlobalIds
+    (``by_guid`` alone would return an arbitrary one of them)."""
+
+    def __init__(self, model, schema) -> None:
+        import ifcopenshell
+
+        self.model = model
+        self.schema = schema
+        self.notes: list[str] = []
+        shared = set(_NON_UNIQUE.findall(ifcopenshell.get_log()))
+        self.shared: dict[str, list] = {}
+        if shared:  # rare: only then is every rooted entity visited
+            for e in model.by_type("IfcRoot"):
+                if e.GlobalId in shared:
+                    self.shared.setdefault(e.GlobalId, []).append(e)
+
+    def get(self, gid: str, where: str):
+        """The target entity, or None (with a note) when the first one cannot carry a set."""
+        many = self.shared.get(gid)
+        if many and len(many) > 1:
+            many = sorted(many, key=lambda e: e.id())
+            target = many[0]
+            others = ", ".join(f"#{e.id()} {e.is_a()}" for e in many[1:4])
+            if not _related_object_ok(target, self.schema):
+                self.notes.append(f"{where}: GlobalId shared by #{target.id()} {target.is_a()} and {others}; "
+                                  "the first cannot carry a property set, so none was written")
+                return None
+            self.notes.append(f"{where}: GlobalId shared by #{target.id()} {target.is_a()} and {others}; "
+                              f"written to #{target.id()} only")
+            return target
+        try:
+            return self.model.by_guid(gid)
+        except RuntimeError:
+            raise InputError(f"{where}: no object with that GlobalId in the model") from None
 
 
 def _value_leaves(schema) -> set[str]:
@@ -557,6 +604,7 @@ def _related_object_ok(entity, schema) -> bool:
 def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -> _Plan:
     model = _open(src, lazy=True)
     schema = _schema(model)
+    targets = _Targets(model, schema)
     leaves = _value_leaves(schema)
     drop, replaced = _find_ours(model, owner_prefix, src)
 
@@ -570,12 +618,13 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
 
     values = _Values(model, leaves)
     n_props = 0
+    skipped = 0
     for ann in annotations:
         where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
-        try:
-            target = model.by_guid(ann.global_id)
-        except RuntimeError:
-            raise InputError(f"{where}: no object with that GlobalId in the model") from None
+        target = targets.get(ann.global_id, where)
+        if target is None:
+            skipped += 1
+            continue
         if not _related_object_ok(target, schema):
             raise InputError(f"{where}: {target.is_a()} #{target.id()} cannot carry a property set by relation")
         pset_gid = _deterministic_guid(ann.global_id, ann.pset_name, "IfcPropertySet")
@@ -619,9 +668,10 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
         psets_replaced=replaced,
         lines=builder.lines,
         first_new_id=top + 1 if builder.lines else 0,
-        psets_written=len(annotations),
+        psets_written=len(annotations) - skipped,
         properties_written=n_props,
         fallbacks=values.fallbacks,
+        notes=targets.notes,
     )
 
 
@@ -838,6 +888,7 @@ def write_annotated(
         bytes_written=written,
         fallbacks=tuple(plan.fallbacks),
         validation_errors=errors,
+        notes=tuple(plan.notes),
     )
 
 
@@ -866,6 +917,7 @@ def write_annotated_reserialise(
         raise InputError(f"{dst}: the annotated copy must not overwrite its source")
     model = _open(src, lazy=False)
     schema = _schema(model)
+    targets = _Targets(model, schema)
     leaves = _value_leaves(schema)
     drop, replaced = _find_ours(model, owner_prefix, src)
     for iid in sorted(drop, reverse=True):
@@ -876,13 +928,14 @@ def write_annotated_reserialise(
 
     values = _Values(model, leaves)
     n_props = 0
+    skipped = 0
     before = {e.id() for e in model.by_type("IfcOwnerHistory")}
     for ann in annotations:
         where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
-        try:
-            target = model.by_guid(ann.global_id)
-        except RuntimeError:
-            raise InputError(f"{where}: no object with that GlobalId in the model") from None
+        target = targets.get(ann.global_id, where)
+        if target is None:
+            skipped += 1
+            continue
         if not _related_object_ok(target, schema):
             raise InputError(f"{where}: {target.is_a()} #{target.id()} cannot carry a property set by relation")
         pset = ifcopenshell.api.pset.add_pset(model, product=target, name=ann.pset_name)
@@ -920,15 +973,16 @@ def write_annotated_reserialise(
     return WriteReport(
         dst=dst,
         schema=model.schema_identifier,
-        psets_written=len(annotations),
+        psets_written=len(annotations) - skipped,
         psets_replaced=replaced,
         properties_written=n_props,
         instances_removed=len(drop),
-        instances_added=n_props + 2 * len(annotations),
+        instances_added=n_props + 2 * (len(annotations) - skipped),
         first_new_id=0,
         bytes_written=dst.stat().st_size,
         fallbacks=tuple(values.fallbacks),
         validation_errors=errors,
+        notes=tuple(targets.notes),
     )
 
 
