@@ -52,24 +52,32 @@ def _fmt(v: Any, nd: int = 2) -> str:
 
 def _svg(fig) -> str:
     buf = io.StringIO()
-    fig.savefig(buf, format="svg", bbox_inches="tight")
-    import matplotlib.pyplot as plt
-
-    plt.close(fig)
+    fig.savefig(buf, format="svg")  # layout="constrained"-free: fixed margins, one draw pass
     text = buf.getvalue()
     start = text.find("<svg")
     return f'<div class="plot">{text[start:]}</div>'
 
 
+class _Figures:
+    """The two pyplot calls the plots use, on bare Figure objects (no pyplot import, no global
+    figure registry, nothing to close)."""
+
+    @staticmethod
+    def subplots(nrows: int = 1, ncols: int = 1, *, figsize=(6.4, 4.8), sharey: bool = False):
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=figsize)
+        fig.subplots_adjust(left=0.12, right=0.97, bottom=0.13, top=0.88, wspace=0.25)
+        axes = fig.subplots(nrows, ncols, sharey=sharey)
+        return fig, axes
+
+
 def _plots_available():
     import matplotlib
 
-    matplotlib.use("Agg", force=True)
     matplotlib.rcParams["svg.fonttype"] = "none"  # text as text: smaller, searchable
     matplotlib.rcParams["svg.hashsalt"] = "swayscreen"  # deterministic ids
-    import matplotlib.pyplot as plt
-
-    return plt
+    return _Figures
 
 
 def _mode_plot(plt, b) -> str | None:
@@ -130,6 +138,15 @@ def _comfort_plot(plt, b) -> str | None:
             seen.add(label)
     ax.set_xscale("log")
     ax.set_yscale("log")
+    from matplotlib.ticker import FuncFormatter
+
+    def label(v: float, _pos: int) -> str:  # 1, 2, 3, 5 x 10^k only: readable log axes
+        lead = f"{v:.0e}"[0]
+        return f"{v:g}" if lead in "1235" else ""
+
+    for axis in (ax.xaxis, ax.yaxis):
+        axis.set_major_formatter(FuncFormatter(label))
+        axis.set_minor_formatter(FuncFormatter(label))
     ax.set_xlabel("frequency of the responding mode (Hz)")
     ax.set_ylabel("peak acceleration, top occupied floor (mg)")
     ax.grid(alpha=0.3, which="both")
