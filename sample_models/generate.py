@@ -11,8 +11,9 @@ Committed samples (``python sample_models/generate.py [--out DIR]`` regenerates 
 * ``office_tower_40.ifc``: "Ferrow Quay Tower", 40 storeys + 1 basement, closed two-cell
   core with door openings, perimeter columns (mapped through IfcColumnType), post-tensioned
   flat slabs with a lift-shaft void and a riser opening, one curtain wall per facade per storey.
-* ``residential_tower_60.ifc``: "Alderbank Residences", 60 storeys, slender, C-shaped core
-  5 m east of the plate centre (open to the west), blade columns, chamfered polyline plates.
+* ``residential_tower_60.ifc``: "Alderbank Residences", 60 storeys, slender, open C-shaped
+  core with returns on the east side of the plate (web facing the plate centre, opening to
+  the east), blade columns, chamfered polyline plates.
 * ``courtyard_12_mm.ifc``: "Tansy Yard", 12 storeys, L-shaped plate, six separate shear
   walls, millimetre length unit, true north 30 degrees counter-clockwise from +Y, building
   placed 12 m / 8 m off the site origin.
@@ -410,66 +411,92 @@ def office_tower_def() -> BuildingDef:
 
 
 # ----- Alderbank Residences (residential) ----------------------------------------------
+# Plate 28.0 m (x) by 30.0 m (y) with 1 m corner chamfers. Core: a C with returns, outside
+# 13.0 m (x, from 0 to 13.0 m) by 18.0 m (y), its web on the west side facing the plate
+# centre, the flanges running east to the east column line and two 7.5 m returns turning in
+# from the flange ends, which leave a 3.0 m opening (the entrance to the lift lobby) in the
+# east face. No coupling beams across the opening: an open section, whose shear centre lies
+# west of the web, about 10 m from the mass centre, so the y sway and the twist couple.
+_RES_PLATE_HALF = (14000, 15000)  # half the plate's extent in x and y (corners chamfered 1 m)
+_RES_CORE_X = (0, 13000)  # outside faces of the web and of the returns
+_RES_CORE_HALF_Y = 9000  # outside faces of the flanges at y = +-9.0 m
+_RES_RETURN = 7500  # length of each return from the flange's outside face
+_RES_CORE_NAMES = ("RC-WEB", "RC-FS", "RC-FN", "RC-RS", "RC-RN")
+_RES_WEB_T = (500, 400, 300)  # web thickness by zone (L00-L19, L20-L39, L40-L59)
+_RES_WALL_T = (800, 600, 400)  # flanges and returns by zone
+# Slab openings inside the core (xmin, ymin, xmax, ymax): the lift shafts along the web and
+# the two stairs against the flanges.
+_RES_SLAB_OPENINGS = ((1000, -4000, 4000, 4000), (5000, 5500, 11000, 8000), (5000, -8000, 11000, -5500))
 
 
-def _residential_core(t: int) -> tuple[WallDef, ...]:
-    """C-shaped core, outer 14.0 m (x) by 11.0 m (y), x from -2.0 to 12.0 m (centre 5.0 m
-    east of the plate centre), open to the west. The web spans the full 11 m; the flanges
-    run to the web's centre line, so they overlap it at the corners."""
-    xw = 12000 - t // 2
-    yf = 5500 - t // 2
+def _residential_core(zone: int) -> tuple[WallDef, ...]:
+    """The C core with returns for a thickness zone (0, 1, 2). The web spans the full
+    18 m; the flanges run from the web's centre line to the east face (overlapping the web);
+    the returns run from the flanges' outside faces (overlapping the flanges' ends)."""
+    tw, t = _RES_WEB_T[zone], _RES_WALL_T[zone]
+    x0, x1 = _RES_CORE_X
+    hy = _RES_CORE_HALF_Y
+    xw = x0 + tw // 2
+    xr = x1 - t // 2
+    yf = hy - t // 2
+    gap = hy - _RES_RETURN
     return (
-        WallDef("RC-WEB", (xw, -5500), (xw, 5500), t, profile="rectangle"),
-        WallDef("RC-FS", (-2000, -yf), (xw, -yf), t, profile="rectangle"),
-        WallDef("RC-FN", (xw, yf), (-2000, yf), t, profile="rectangle"),
+        WallDef("RC-WEB", (xw, -hy), (xw, hy), tw, profile="rectangle"),
+        WallDef("RC-FS", (xw, -yf), (x1, -yf), t, profile="rectangle"),
+        WallDef("RC-FN", (x1, yf), (xw, yf), t, profile="rectangle"),
+        WallDef("RC-RS", (xr, -hy), (xr, -gap), t, profile="rectangle"),
+        WallDef("RC-RN", (xr, gap), (xr, hy), t, profile="rectangle"),
     )
 
 
 def _residential_columns(zone: int) -> tuple[ColumnDef, ...]:
-    """Blade columns on the facades (long side along the facade), square corner and
-    interior columns, all C60/75, stepping down at L20 and L40 (zone 0, 1, 2)."""
+    """Blade columns on the north, south and west facades (long side along the facade; the
+    west ones placed rotated 90 degrees), square corner columns and a line of three square
+    interior columns in the west bay, all C60/75, on a grid of about 7 m, stepping down at
+    L20 and L40 (zone 0, 1, 2). The east facade needs none between the corners: the core's
+    flanges reach it."""
     m = "Concrete C60/75"
-    bl, bt = ((1600, 500), (1400, 450), (1200, 400))[zone]
-    corner = (800, 700, 600)[zone]
-    inner = (1100, 1000, 900)[zone]
+    bl, bt = ((1400, 450), (1200, 400), (1000, 350))[zone]
+    corner = (700, 600, 500)[zone]
+    inner = (1000, 800, 600)[zone]
+    cx, cy = (v - 1000 for v in _RES_PLATE_HALF)  # column lines 1 m inside the plate edges
     cols: list[ColumnDef] = []
-    for y, row in ((-11500, "S"), (11500, "N")):
-        for x in (-6500, 0, 6500):
+    for y, row in ((-cy, "S"), (cy, "N")):
+        for x in (-7000, 0, 7000):
             cols.append(ColumnDef(f"B-{row}{x // 100:+d}", (x, y), bl, bt, material=m))
-    for x, side, ys in ((-13000, "W", (-3800, 3800)), (13000, "E", (-8000, 8000))):
-        for y in ys:
-            cols.append(ColumnDef(f"B-{side}{y // 100:+d}", (x, y), bl, bt, rotated=True, material=m))
-    for x in (-13000, 13000):
-        for y in (-11500, 11500):
+    for y in (-7000, 0, 7000):
+        cols.append(ColumnDef(f"B-W{y // 100:+d}", (-cx, y), bl, bt, rotated=True, material=m))
+    for x in (-cx, cx):
+        for y in (-cy, cy):
             cols.append(ColumnDef(f"K-{'W' if x < 0 else 'E'}{'S' if y < 0 else 'N'}", (x, y), corner, corner,
                                   material=m))
-    for y in (-4000, 4000):
-        cols.append(ColumnDef(f"I-{'S' if y < 0 else 'N'}", (-7000, y), inner, inner, material=m))
+    for y in (-7000, 0, 7000):
+        cols.append(ColumnDef(f"I{y // 100:+d}", (-6500, y), inner, inner, material=m))
     return tuple(cols)
 
 
 def residential_tower_def() -> BuildingDef:
     """Alderbank Residences: slender 60-storey residential tower.
 
-    Plate 28 x 25 m with 1 m corner chamfers (698 m2), 3.2 m storeys (4.2 m ground),
-    193 m tall (height / plate width 7.7), 0.25 m flat slabs, C-shaped core 5 m east of
-    the plate centre (walls 0.75 / 0.65 / 0.50 m stepping at L20 and L40), blade columns.
+    Plate 28 m (x) by 30 m (y) with 1 m corner chamfers (838 m2), 3.2 m storeys (4.2 m
+    ground), 193 m tall (height / least plate width 6.9), 0.20 m post-tensioned flat slabs
+    with the lift and stair openings inside the core, an open C-shaped core with returns on
+    the east side, its web facing the plate centre (flanges and returns 0.80 / 0.60 /
+    0.40 m, web 0.50 / 0.40 / 0.30 m, stepping at L20 and L40), blade, corner and interior
+    columns (C60/75).
     """
-    plate = (
-        (-13000, -12500), (13000, -12500), (14000, -11500), (14000, 11500),
-        (13000, 12500), (-13000, 12500), (-14000, 11500), (-14000, -11500),
-    )
-    lift = (6000, -4000, 11000, 1000)
+    a, b = _RES_PLATE_HALF
+    plate = ((-a + 1000, -b), (a - 1000, -b), (a, -b + 1000), (a, b - 1000),
+             (a - 1000, b), (-a + 1000, b), (-a, b - 1000), (-a, -b + 1000))
     partitions = (
-        WallDef("PW-1", (-4000, 6000), (-4000, 12000), 100, "PARTITIONING", False, material=_GYPSUM.name),
-        WallDef("PW-2", (-4000, -12000), (-4000, -6000), 100, "PARTITIONING", False, material=_GYPSUM.name),
+        WallDef("PW-1", (-4000, 7000), (-4000, b - 500), 100, "PARTITIONING", False, material=_GYPSUM.name),
+        WallDef("PW-2", (-4000, -b + 500), (-4000, -7000), 100, "PARTITIONING", False, material=_GYPSUM.name),
     )
-    groups = ((("RC-WEB", "RC-FS", "RC-FN"), 0), (("PW-1",), 0), (("PW-2",), 0))
-    floor = SlabDef("Floor plate", plate, 250, "FLOOR", openings=(lift,))
+    groups = ((_RES_CORE_NAMES, 0), (("PW-1",), 0), (("PW-2",), 0))
+    floor = SlabDef("Floor plate", plate, 200, "FLOOR", openings=_RES_SLAB_OPENINGS)
 
     def plan(zone: int, slab: SlabDef = floor) -> PlanDef:
-        t = (750, 650, 500)[zone]
-        return PlanDef((slab,), _residential_core(t) + partitions, _residential_columns(zone), (), groups)
+        return PlanDef((slab,), _residential_core(zone) + partitions, _residential_columns(zone), (), groups)
 
     plans = {
         "ground": plan(0, SlabDef("Ground slab", plate, 600, "BASESLAB")),
@@ -491,7 +518,7 @@ def residential_tower_def() -> BuildingDef:
         project_name="Alderbank",
         site_name="Alderbank east plot",
         building_name="Alderbank Residences",
-        description="60-storey residential tower, offset C-shaped core, blade columns",
+        description="60-storey residential tower, offset open C core with returns, blade columns",
         storeys=tuple(storeys),
         plans=plans,
         materials=(_CONCRETE_C40, _CONCRETE_C60, _GYPSUM),
