@@ -59,6 +59,7 @@ Systems that end at the top of the building (no storey above has any) are not re
 """
 from __future__ import annotations
 
+import bisect
 import math
 import re
 from collections.abc import Sequence
@@ -343,15 +344,43 @@ def _door_cuts(w: Wall, length: float, stiffness: StiffnessSettings) -> list[tup
     return cuts
 
 
-def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, SectionProps, bool, PlanShape, str]:
+def _wall_signature(w: Wall, line: tuple[np.ndarray, np.ndarray, float], slits: tuple[float, ...]) -> tuple:
+    """Everything of a wall that its system's section depends on: axis, thickness, footprint
+    (WKB bytes) and the cut positions. Walls with equal signatures give equal sections."""
+    p0, p1, t = line
+    fp = w.footprint
+    return (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t),
+            fp.wkb if fp is not None else b"", tuple(float(c) for c in slits))
+
+
+def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[float, ...]], mode: str
+                     ) -> tuple[SectionProps, PlanShape, int, int, int]:
+    """(section, plan, closed cells after cuts, cells in plan, centre-line parts) of a group of walls."""
+    plan = _as_plan(shapely.union_all([_footprint(w, lines[w.global_id]) for w in walls]))
+    uncut = wall_segments(walls)
+    tw = thin_walled_properties(
+        wall_segments(walls, slits=slits) if slits else uncut,
+        torsion_cells=(mode != "open"), free_end_correction=True, snap_tol_m=_NODE_SNAP_M,
+    )
+    n_geo = tw.n_cells  # cells in plan before cuts and override
+    if slits or mode == "open":
+        n_geo = thin_walled_properties(uncut, free_end_correction=True, snap_tol_m=_NODE_SNAP_M).n_cells
+    return combine_section(tw, plan), plan, tw.n_cells, n_geo, tw.n_parts
+
+
+def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None = None
+            ) -> tuple[str, SectionProps, bool, PlanShape, str]:
     """Kind, section, closed flag, plan and note of one connected group of walls.
+
+    ``memo``: a dict shared between calls (e.g. over the storeys of one building): groups of
+    walls with the same geometry (same axes, thicknesses, footprints and cuts, in any order)
+    reuse the section and plan computed for the first such group.
 
     Raises:
         InputError: the walls leave no centre line (all shorter than the node snapping).
     """
     kind = "core" if len(walls) > 1 else "wall"
     lines = {w.global_id: _wall_line(w) for w in walls}
-    plan = _as_plan(shapely.union_all([_footprint(w, lines[w.global_id]) for w in walls]))
     mode = stiffness.core_cells
     slits: dict[str, tuple[float, ...]] = {}
     cut_notes: list[str] = []
@@ -362,15 +391,15 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, Secti
             if cuts:
                 slits[w.global_id] = tuple(c for c, _ in cuts)
                 cut_notes += [d for _, d in cuts]
-    uncut = wall_segments(walls)
-    tw = thin_walled_properties(
-        wall_segments(walls, slits=slits) if slits else uncut,
-        torsion_cells=(mode != "open"), free_end_correction=True, snap_tol_m=_NODE_SNAP_M,
-    )
-    n_geo = tw.n_cells  # cells in plan before cuts and override
-    if slits or mode == "open":
-        n_geo = thin_walled_properties(uncut, free_end_correction=True, snap_tol_m=_NODE_SNAP_M).n_cells
-    section = combine_section(tw, plan)
+    if memo is None:
+        geo = _system_geometry(walls, lines, slits, mode)
+    else:
+        key = (mode, tuple(sorted(_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()))  # type: ignore[arg-type]
+                                  for w in walls)))
+        geo = memo.get(key)
+        if geo is None:
+            geo = memo[key] = _system_geometry(walls, lines, slits, mode)
+    section, plan, n_cells, n_geo, n_parts = geo
     depth = f"{stiffness.lintel_min_depth_m:.2f} m"
     cut_text = "; ".join(f"{d} (< {depth}): cut" for d in cut_notes)
     if kind == "wall":
@@ -378,18 +407,18 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings) -> tuple[str, Secti
     elif n_geo == 0:
         note = "open section (no closed cell in plan)"
     elif mode == "closed":
-        note = f"settings core_cells = closed: {tw.n_cells} cell(s) taken closed, openings ignored"
+        note = f"settings core_cells = closed: {n_cells} cell(s) taken closed, openings ignored"
     elif mode == "open":
         note = f"settings core_cells = open: {n_geo} cell(s) taken open (St Venant)"
     elif not cut_notes:
         tail = f"every opening keeps a lintel >= {depth}" if any(w.openings for w in walls) else "no openings"
-        note = f"door rule: {tw.n_cells} cell(s) closed; {tail}"
+        note = f"door rule: {n_cells} cell(s) closed; {tail}"
     else:
-        note = f"door rule: {tw.n_cells} of {n_geo} cell(s) act closed after cuts"
+        note = f"door rule: {n_cells} of {n_geo} cell(s) act closed after cuts"
     if cut_text:
         note += f"; {cut_text}"
-    if tw.n_parts > 1:
-        note += (f"; centre lines in {tw.n_parts} unconnected parts (shear centre from their stiffness centre;"
+    if n_parts > 1:
+        note += (f"; centre lines in {n_parts} unconnected parts (shear centre from their stiffness centre;"
                  " no warping constant taken)")
     elif kind == "core" and section.cw_m6 > 0.0:
         note += f"; warping constant C_w = {section.cw_m6:,.1f} m^6 (Vlasov torsion)"
@@ -403,6 +432,7 @@ def _find_systems(
     load_bearing_only: bool = False,
     partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
     tol_m: float = JOIN_TOL_M,
+    memo: dict | None = None,
 ) -> tuple[list[SystemSection], list[str], tuple[int, int]]:
     kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m)
     if not kept:
@@ -417,7 +447,7 @@ def _find_systems(
     for comp in nx.connected_components(graph):
         group = sorted((kept[k] for k in comp), key=lambda w: w.global_id)
         try:
-            kind, section, closed, plan, note = _system(group, stiffness)
+            kind, section, closed, plan, note = _system(group, stiffness, memo)
         except InputError as err:
             warnings.append(f"walls {', '.join(w.global_id for w in group)} give no section ({err}): left out")
             continue
@@ -461,12 +491,36 @@ def find_systems(
 # ---------------------------------------------------------------------------------------
 
 
-def _storey_walls(storey: Storey, others: Sequence[tuple[Storey, Wall]], include_spanning: bool) -> list[Wall]:
+class _SpanIndex:
+    """The walls of all storeys (storey by storey, in order) indexed by base elevation, to find
+    those whose body spans a given elevation without scanning every wall."""
+
+    def __init__(self, owned: Sequence[tuple[Storey, Wall]]) -> None:
+        self.owned = owned
+        rows = sorted((w.base_elevation_m, k) for k, (_, w) in enumerate(owned) if math.isfinite(w.base_elevation_m))
+        self.bases = [b for b, _ in rows]
+        self.order = [k for _, k in rows]
+        heights = [owned[k][1].height_m for k in self.order]
+        self.max_height = max((h for h in heights if not math.isnan(h)), default=0.0)
+
+    def spanning(self, z: float) -> list[tuple[Storey, Wall]]:
+        """(storey, wall) with base < z < top, in the order of ``owned``."""
+        if not self.bases or not math.isfinite(z):
+            return []
+        lo = bisect.bisect_left(self.bases, z - self.max_height) if math.isfinite(self.max_height) else 0
+        hi = bisect.bisect_left(self.bases, z)
+        hits = sorted(self.order[lo:hi])
+        return [self.owned[k] for k in hits if self.owned[k][1].base_elevation_m < z < self.owned[k][1].top_elevation_m]
+
+
+def _storey_walls(storey: Storey, others: Sequence[tuple[Storey, Wall]] | _SpanIndex, include_spanning: bool
+                  ) -> list[Wall]:
     walls = list(storey.walls)
     if include_spanning and storey.height_m > 0:
         mid = storey.elevation_m + storey.height_m / 2
         ids = {w.global_id for w in walls}
-        for owner, w in others:
+        cands = others.spanning(mid) if isinstance(others, _SpanIndex) else others
+        for owner, w in cands:
             if owner is storey or w.global_id in ids:
                 continue
             if w.base_elevation_m < mid < w.top_elevation_m:
@@ -521,9 +575,12 @@ def find_systems_by_storey(
     per_storey_raw: list[tuple[list[SystemSection], list[str], list[Wall]]] = []
     partitions: list[int] = []
     flagged: list[int] = []
+    span_index = _SpanIndex(owned)
+    memo: dict = {}  # wall-group geometry -> section and plan, shared over the storeys
     for st in order:
-        walls = _storey_walls(st, owned, include_spanning_walls)
-        systems, warn, (n_partition, n_flagged) = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only)
+        walls = _storey_walls(st, span_index, include_spanning_walls)
+        systems, warn, (n_partition, n_flagged) = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only,
+                                                                 memo=memo)
         if walls and not systems:
             warn.append(f"none of its {len(walls)} wall(s) is in the lateral system (non-load-bearing, partitions or unusable)")
         per_storey_raw.append((systems, warn, walls))
@@ -538,6 +595,8 @@ def find_systems_by_storey(
     top_with_systems = max((k for k, r in enumerate(per_storey_raw) if r[0]), default=-1)
 
     prev: list[SystemSection] = []
+    overlap_memo: dict[tuple[int, int], float] = {}
+    uncovered_memo: dict[tuple, tuple[float, float]] = {}
     for k, st in enumerate(order):
         systems, warn, walls = per_storey_raw[k]
         wall_index[k] = {w.global_id: w for w in walls}
@@ -554,7 +613,10 @@ def find_systems_by_storey(
             hits_new, hits_old = tree.query([s.plan for s in systems], predicate="intersects")
             for n, m in zip(hits_new.tolist(), hits_old.tolist()):
                 prio, sid, old_plan = pool[m]
-                ov = systems[n].plan.intersection(old_plan).area
+                okey = (id(systems[n].plan), id(old_plan))  # plans are alive until the end: ids are stable
+                ov = overlap_memo.get(okey)
+                if ov is None:
+                    ov = overlap_memo[okey] = systems[n].plan.intersection(old_plan).area
                 if ov > 1e-9:
                     pairs.append((prio, ov, n, sid))
                     if prio == 1:
@@ -600,7 +662,11 @@ def find_systems_by_storey(
                 w = wall_index[k - 1].get(gid)
                 if w is None:
                     continue
-                rest, total = _uncovered(w, new.plan, JOIN_TOL_M)
+                ukey = (_wall_signature(w, line, ()) if (line := _wall_line(w)) is not None else gid, id(new.plan))
+                got = uncovered_memo.get(ukey)
+                if got is None:
+                    got = uncovered_memo[ukey] = _uncovered(w, new.plan, JOIN_TOL_M)
+                rest, total = got
                 if rest > max(STOP_MIN_LENGTH_M, 0.05 * total):
                     stops.append(f"{gid} ({rest:.2f} m of {total:.2f} m)")
             if stops:

@@ -112,18 +112,44 @@ def _find_systems(storeys: Sequence[Storey], stiffness: StiffnessSettings):
     return find_systems_by_storey(storeys, stiffness)
 
 
-def _slab_field(layout: FloorLayout, i: int, book: MaterialBook) -> SlabField:
-    slabs, _ = floor_slabs(layout.floors, i)
-    return SlabField([(sl.footprint, sl.thickness_m, book.get(sl.material).e_pa) for sl in slabs])
+class _Memo:
+    """Work shared over the storeys of one building: storeys with the same slabs, walls and
+    columns in plan reuse the same slab fields, wall unions and column springs (the inputs
+    are compared by value: WKB bytes of the plan shapes, thicknesses, moduli)."""
+
+    def __init__(self, layout: FloorLayout) -> None:
+        self.walls_by_id = {w.global_id: w for w in layout.walls}
+        self.fields: dict[tuple, SlabField] = {}
+        self.unions: dict[tuple, Any] = {}
+        self.springs: dict = {}
+
+    def slab_field(self, layout: FloorLayout, i: int, book: MaterialBook) -> SlabField:
+        slabs, _ = floor_slabs(layout.floors, i)
+        pieces = [(sl.footprint, sl.thickness_m, book.get(sl.material).e_pa) for sl in slabs]
+        key = tuple((shp.wkb, float(t), float(e)) for shp, t, e in pieces)
+        got = self.fields.get(key)
+        if got is None:
+            got = self.fields[key] = SlabField(pieces)
+        return got
+
+    def walls_union(self, shapes: list[Any]) -> Any:
+        if not shapes:
+            return None
+        key = tuple(sorted(shp.wkb for shp in shapes))
+        got = self.unions.get(key)
+        if got is None:
+            got = self.unions[key] = unary_union(shapes)
+        return got
 
 
 def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], systems: dict[str, list[Any]],
-                     book: MaterialBook, stiffness: StiffnessSettings, warnings: list[str]
-                     ) -> tuple[list[Segment], RestraintReport | None]:
+                     book: MaterialBook, stiffness: StiffnessSettings, warnings: list[str],
+                     memo: _Memo | None = None) -> tuple[list[Segment], RestraintReport | None]:
     """Segments of floor ``j``'s storey built from the elements of ``storeys``."""
     f = layout.floors[j]
     segs: list[Segment] = []
-    walls_by_id = {w.global_id: w for w in layout.walls}
+    memo = memo or _Memo(layout)
+    walls_by_id = memo.walls_by_id
     seen: set[str] = set()
     for s in storeys:
         for sysn in systems.get(s.global_id, ()):
@@ -154,13 +180,13 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
     report = None
     if cols:
         wall_shapes = [w.footprint for s in storeys for w in s.walls if w.footprint is not None]
-        walls_union = unary_union(wall_shapes) if wall_shapes else None
-        top = _slab_field(layout, j, book)
-        bottom = _slab_field(layout, j - 1, book) if j > 0 else None
+        walls_union = memo.walls_union(wall_shapes)
+        top = memo.slab_field(layout, j, book)
+        bottom = memo.slab_field(layout, j - 1, book) if j > 0 else None
         name = " + ".join(s.name for s in storeys)
         springs, report, notes = column_springs(
             cols, level_index=j, storey=name, length_m=f.height_m, top=top, bottom=bottom, fixed_base=(j == 0),
-            walls=walls_union, stiffness=stiffness)
+            walls=walls_union, stiffness=stiffness, cache=memo.springs)
         warnings.extend(notes)
         seg = frame_segment(springs, j, f.height_m)
         if seg is not None:
@@ -238,8 +264,9 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
     restraint: list[RestraintReport] = []
     own: list[bool] = []
     per_level: list[list[Segment]] = []
+    memo = _Memo(layout)
     for j, f in enumerate(layout.floors):
-        segs, rep = _storey_segments(layout, j, f.segment_storeys, systems, book, stiff, warnings)
+        segs, rep = _storey_segments(layout, j, f.segment_storeys, systems, book, stiff, warnings, memo)
         per_level.append(segs)
         own.append(bool(segs))
         if rep is not None:
@@ -254,7 +281,7 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
         donors = [k for k in range(j - 1, -1, -1) if own[k]] or [k for k in range(j + 1, len(own)) if own[k]]
         k = donors[0]
         donor = layout.floors[k]
-        segs, rep = _storey_segments(layout, j, donor.segment_storeys, systems, book, stiff, warnings)
+        segs, rep = _storey_segments(layout, j, donor.segment_storeys, systems, book, stiff, warnings, memo)
         per_level[j] = segs
         if rep is not None:
             restraint.append(rep)

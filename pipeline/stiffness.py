@@ -284,7 +284,7 @@ def _strips(field: SlabField | None, x: float, y: float, spans: tuple[float | No
 
 def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: str, length_m: float,
                    top: SlabField | None, bottom: SlabField | None, fixed_base: bool,
-                   walls: BaseGeometry | None, stiffness: StiffnessSettings
+                   walls: BaseGeometry | None, stiffness: StiffnessSettings, cache: dict | None = None
                    ) -> tuple[list[ColumnSpring], RestraintReport | None, list[str]]:
     """Springs of a storey's columns and the restraint factors used (see module doc).
 
@@ -296,20 +296,59 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
             ignored when ``fixed_base``).
         fixed_base: the storey stands on the fixed base (Muto's lowest-storey formula).
         walls: union of the storey's wall footprints (supports for slab strips; columns inside are skipped).
+        cache: a dict shared between calls (e.g. over the storeys of one building). Storeys
+            with the same column sections (WKB) and moduli in the same order, the same height,
+            the same ``top``, ``bottom`` and ``walls`` objects and settings reuse the springs of
+            the first such storey (the result depends on nothing else); only the ids and
+            names are filled in per call.
     Returns:
         (springs, report or None when there are no columns, notes).
     """
+    if cache is None:
+        core = _column_core(columns, length_m, top, bottom, fixed_base, walls, stiffness)
+    else:
+        key = (tuple((c.section.wkb, float(c.e_pa)) for c in columns), float(length_m), id(top), id(bottom),
+               bool(fixed_base), id(walls), stiffness)
+        hit = cache.get(key)
+        if hit is None:
+            core = _column_core(columns, length_m, top, bottom, fixed_base, walls, stiffness)
+            cache[key] = (core, (top, bottom, walls))  # holding the objects keeps their ids unique
+        else:
+            core = hit[0]
+    kept, n_inside, no_slab, method, values = core
     notes: list[str] = []
+    if n_inside:
+        notes.append(f"{storey}: {n_inside} column(s) inside walls count as part of the wall")
+    if not kept:
+        return [], None, notes
+    if no_slab:
+        notes.append(f"{storey}: no slab to derive the column end restraint; a = {NO_SLAB_RESTRAINT:g} assumed")
+    springs = [ColumnSpring(columns[i].global_id, *v) for i, v in zip(kept, values)]
+    ax = [s.a_x for s in springs]
+    ay = [s.a_y for s in springs]
+    report = RestraintReport(level_index, storey, len(springs), method, statistics.fmean(ax), min(ax), max(ax),
+                             statistics.fmean(ay), min(ay), max(ay))
+    return springs, report, notes
+
+
+def _column_core(columns: Sequence[ColumnInput], length_m: float, top: SlabField | None, bottom: SlabField | None,
+                 fixed_base: bool, walls: BaseGeometry | None, stiffness: StiffnessSettings
+                 ) -> tuple[tuple[int, ...], int, bool, str, tuple[tuple, ...]]:
+    """The numbers of :func:`column_springs`: (indices of the columns kept, number inside walls,
+    no-slab assumption made, method, per kept column (centre, k_x, k_y, a_x, a_y, h))."""
     cols = list(columns)
+    index = list(range(len(cols)))
+    n_inside = 0
     if walls is not None and not walls.is_empty:
         cxy = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols]).reshape(-1, 2)
         mask = shapely.contains_xy(walls, cxy[:, 0], cxy[:, 1]) if len(cols) else np.zeros(0, bool)
         inside = [c for c, m in zip(cols, mask) if m]
         if inside:
-            notes.append(f"{storey}: {len(inside)} column(s) inside walls count as part of the wall")
+            n_inside = len(inside)
+            index = [i for i, c in zip(index, cols) if c not in inside]
             cols = [c for c in cols if c not in inside]
     if not cols:
-        return [], None, notes
+        return (), n_inside, False, "", ()
     f_c = stiffness.column_flexure_factor
     pts = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols], dtype=float)
     inertias = [column_second_moments(c.section) for c in cols]
@@ -317,8 +356,7 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
     set_a = stiffness.column_restraint_factor
     have_slab = bool(top) or (bool(bottom) and not fixed_base)
     method = "settings" if set_a is not None else ("Muto D-value" if have_slab else "no slab (assumed)")
-    if set_a is None and not have_slab:
-        notes.append(f"{storey}: no slab to derive the column end restraint; a = {NO_SLAB_RESTRAINT:g} assumed")
+    no_slab = set_a is None and not have_slab
 
     # Spans and panel widths per column and direction (only needed for Muto).
     spans: list[list[tuple[float | None, float | None]]] = []
@@ -339,7 +377,7 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
                 if s[axis] == (None, None):
                     s[axis] = (typical, typical)
 
-    springs: list[ColumnSpring] = []
+    values: list[tuple] = []
     for i, c in enumerate(cols):
         x, y = float(pts[i, 0]), float(pts[i, 1])
         h = length_m
@@ -366,12 +404,8 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
             a_dir.append(muto_factor(k_bar, fixed_base=fixed_base))
         k_x = a_dir[0] * 12.0 * c.e_pa * f_c * iyy / h ** 3
         k_y = a_dir[1] * 12.0 * c.e_pa * f_c * ixx / h ** 3
-        springs.append(ColumnSpring(c.global_id, (x, y), k_x, k_y, a_dir[0], a_dir[1], h))
-    ax = [s.a_x for s in springs]
-    ay = [s.a_y for s in springs]
-    report = RestraintReport(level_index, storey, len(springs), method, statistics.fmean(ax), min(ax), max(ax),
-                             statistics.fmean(ay), min(ay), max(ay))
-    return springs, report, notes
+        values.append(((x, y), k_x, k_y, a_dir[0], a_dir[1], h))
+    return tuple(index), n_inside, no_slab, method, tuple(values)
 
 
 def frame_segment(springs: Sequence[ColumnSpring], level_index: int, length_m: float,
