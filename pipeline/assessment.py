@@ -4,10 +4,14 @@ Collects every :class:`~swayscreen.pipeline.plugin_api.Check` from results whose
 ends in ``_checks``. Status:
 
 * ``"pass"``: every check passes (or the building is below the wind-sensitivity height);
-* ``"flagged"``: at least one check fails;
+* ``"flagged"``: at least one check fails whose method is used within its validity range;
 * ``"incomplete"``: the building is wind-sensitive but no comfort or drift check could be
   computed (for example no lateral system could be read), or an estimator failed; treated
-  as flagged by the CLI, because a scheme cannot be cleared on missing results.
+  as flagged by the CLI, because a scheme cannot be cleared on missing results; also when
+  the only failing checks come from methods used outside their validity range (their values
+  are extrapolations: a wind-tunnel study is needed to clear or confirm them).
+
+The governing check is the worst valid check, or the worst overall when no valid check fails.
 """
 from __future__ import annotations
 
@@ -54,7 +58,10 @@ def assess(
         if name.endswith("_checks") and value:
             checks.extend(c for c in value if isinstance(c, Check))
     reasons = list(missing)
-    governing = max(checks, key=lambda c: c.ratio) if checks else None
+    valid_fail = [c for c in checks if c.valid and not c.passes]
+    invalid_fail = [c for c in checks if not c.valid and not c.passes]
+    pool = valid_fail or checks
+    governing = max(pool, key=lambda c: c.ratio) if pool else None
     if height_m is not None and height_m < min_wind_height_m:
         reasons.insert(
             0,
@@ -62,8 +69,15 @@ def assess(
             "(checks shown for information only)",
         )
         return Assessment("pass", tuple(checks), governing, tuple(reasons))
-    if any(not c.passes for c in checks):
+    if invalid_fail:
+        names = "; ".join(sorted({f"{c.criterion} ({c.method}) {c.value:.3g} {c.unit} vs {c.limit:.3g}"
+                                  for c in invalid_fail}))
+        reasons.append("outside their methods' validity range and above the limit (extrapolated; "
+                       f"a wind-tunnel study is needed to confirm or clear them): {names}")
+    if valid_fail:
         return Assessment("flagged", tuple(checks), governing, tuple(reasons))
+    if invalid_fail:
+        return Assessment("incomplete", tuple(checks), governing, tuple(reasons))
     if not checks:
         reasons.append("no comfort or drift check could be computed; the scheme cannot be cleared")
         return Assessment("incomplete", (), None, tuple(reasons))

@@ -91,6 +91,8 @@ class Check:
         direction_deg: wind direction, degrees clockwise from north, the wind blowing from.
         floor: storey name of the governing floor.
         note: validity warnings and assumptions.
+        valid: False when the estimate behind ``value`` comes from a method used outside its
+            stated range (shown, never hidden; see :mod:`.assessment` for how it counts).
     """
 
     criterion: str
@@ -103,6 +105,7 @@ class Check:
     direction_deg: float | None = None
     floor: str | None = None
     note: str = ""
+    valid: bool = True
 
     @property
     def ratio(self) -> float:

@@ -278,7 +278,7 @@ def _checks_table(checks) -> str:
         rows.append(
             f'<tr class="{"" if c.passes else "fail"}"><td>{_e(c.criterion)}</td><td>{_e(c.method)}</td>'
             f'<td class="n">{c.value:.4g}</td><td class="n">{c.limit:.4g}</td><td>{_e(c.unit)}</td>'
-            f'<td class="n">{_fmt(c.ratio)}</td><td>{"passes" if c.passes else "FLAGGED"}</td>'
+            f'<td class="n">{_fmt(c.ratio)}</td><td>{("passes" if c.passes else "FLAGGED") if c.valid else ("within limit, method out of range" if c.passes else "above limit, method out of range")}</td>'
             f'<td>{_fmt(c.return_period_yr, 0)}</td><td>{_fmt(c.direction_deg, 0)}</td><td>{_e(c.floor or "-")}</td>'
             f'<td class="note">{_e(c.note)}</td></tr>'
         )

@@ -43,9 +43,13 @@ def _checks(b) -> list[str]:
     for c in checks:
         rows.append([c.criterion, c.method, f"{c.return_period_yr:g}" if c.return_period_yr else "-",
                      f"{c.direction_deg:.0f}" if c.direction_deg is not None else "-", c.floor or "-",
-                     f"{c.value:.4g}", f"{c.limit:.4g}", c.unit, f"{c.ratio:.2f}", "ok" if c.passes else "FLAGGED"])
+                     f"{c.value:.4g}", f"{c.limit:.4g}", c.unit, f"{c.ratio:.2f}",
+                     ("ok" if c.passes else "FLAGGED") if c.valid else ("ok*" if c.passes else "above*")])
     lines = ["Checks (worst wind direction for each):",
              table(["criterion", "method", "yr", "from deg", "floor", "value", "limit", "unit", "ratio", "result"], rows)]
+    if any(not c.valid for c in checks):
+        lines.append("  * method used outside its validity range: shown, but it can neither clear nor flag the "
+                     "scheme on its own (wind-tunnel study advised)")
     notes = sorted({c.note for c in checks if c.note})
     lines += [f"  note: {n}" for n in notes]
     return lines

@@ -66,6 +66,7 @@ def check_dict(c: Check) -> dict[str, Any]:
         "direction_deg": _num(c.direction_deg),
         "floor": c.floor,
         "note": c.note,
+        "valid": bool(c.valid),
     }
 
 
@@ -127,7 +128,7 @@ def _accelerations(checks: list[Check]) -> list[dict[str, Any]]:
         {
             "method": c.method, "return_period_yr": _num(c.return_period_yr), "direction_deg": _num(c.direction_deg),
             "floor": c.floor, "peak_mg": _num(c.value), "limit_mg": _num(c.limit), "criterion": c.criterion,
-            "passes": bool(c.passes), "note": c.note,
+            "passes": bool(c.passes), "note": c.note, "valid": bool(c.valid),
         }
         for c in checks if c.unit == "mg"
     ]

@@ -234,7 +234,7 @@ def _check_from(rows: list[ComfortRow]) -> Check | None:
     elif gov.note:
         notes.append(gov.note)
     return Check(gov.criterion, gov.method, gov.value_mg, gov.limit_mg, "mg", gov.value_mg <= gov.limit_mg,
-                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(notes))
+                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(notes), valid=gov.valid)
 
 
 def comfort_assessment(results: list[AccelerationResult], corners: CornerResult | None, cs: ComfortSettings,

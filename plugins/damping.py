@@ -289,6 +289,7 @@ class LoopCheck:
     value_after_mg: float
     limit_after_mg: float
     passes_after: bool
+    valid: bool = True
 
 
 @dataclass(frozen=True)
@@ -406,11 +407,14 @@ class DampingAdvice:
                     f"{'fits' if t.fits else 'does NOT fit'} the free plate area ({t.free_area_m2:,.0f} m2)")
         for lp in self.loops:
             shift = ", ".join(f"mode {a} {fa:.3f} -> {fb:.3f} Hz" for a, fa, _b, fb, _mu, _z in lp.modes)
-            worst = max(lp.checks, key=lambda c: c.value_after_mg / c.limit_after_mg, default=None)
+            worst = max((c for c in lp.checks if c.valid), key=lambda c: c.value_after_mg / c.limit_after_mg,
+                        default=None)
             after = (f"; worst after {worst.value_after_mg:.1f} mg vs {worst.limit_after_mg:.1f} ({worst.criterion}, "
                      f"{worst.method})" if worst else "")
             out.append(f"After {lp.damper_type.upper()} (+{lp.added_mass_t:,.0f} t at {lp.level}): "
-                       f"{'all comfort checks pass' if lp.passes else 'still flagged'}; {shift}{after}")
+                       f"{'every comfort check within its method range passes' if lp.passes else 'still flagged'}; "
+                       f"{shift}{after}")
+        out += [n for n in self.notes if "validity range" in n]
         return tuple(out)
 
     @property
@@ -978,7 +982,7 @@ def _close_loop(kind: str, units: Sequence[_Unit], ctx_stick: StickModel, modes_
     for b in before:
         a = _find(after, _key(b))
         if a is not None:
-            rows.append(LoopCheck(b.criterion, b.method, b.value, b.limit, a.value, a.limit, a.passes))
+            rows.append(LoopCheck(b.criterion, b.method, b.value, b.limit, a.value, a.limit, a.passes, a.valid))
     mode_rows = tuple(
         (old, float(modes_by_index[old].frequency_hz), new, float(modes2[new].frequency_hz), mu_new.get(new, 0.0),
          worst.get(new, math.nan))
@@ -986,7 +990,7 @@ def _close_loop(kind: str, units: Sequence[_Unit], ctx_stick: StickModel, modes_
     loop = ClosedLoop(
         damper_type=kind, level=ctx_stick.levels[level_index].name,
         added_mass_t=sum(u.total_mass_kg for u in units) / 1000.0, modes=mode_rows, checks=tuple(rows),
-        passes=all(a.passes for a in after), iterations=1,
+        passes=all(a.passes for a in after if a.valid), iterations=1,
         note="damper mass added rigidly (frequency drop over-stated); dampers re-tuned to the new modes")
     return loop, after
 
@@ -1008,12 +1012,20 @@ def advise(stick: StickModel, building: BuildingTakeoff, settings: Mapping[str, 
     modes = tuple(getattr(modal, "modes", modal))
     modes_by_index = {int(m.index): m for m in modes}
     mg_checks = [c for c in checks if c.unit == "mg"]
+    # Dampers are sized against estimates within their method's range; extrapolated ones are
+    # reported (a wind-tunnel study must settle them), not designed for.
+    outside = [c for c in mg_checks if not c.passes and not c.valid]
+    mg_checks = [c for c in mg_checks if c.valid]
     flagged = [c for c in mg_checks if not c.passes]
     needed = bool(flagged)
     if not flagged and ds.run_always and mg_checks:
         flagged = [max(mg_checks, key=lambda c: c.ratio)]
+    outside_notes = tuple(
+        f"{c.criterion} ({c.method}) {c.value:.1f} mg vs {c.limit:.1f}: outside the method's validity range, "
+        "not designed for; a wind-tunnel study should confirm it" for c in outside)
     if not flagged:
-        return DampingAdvice(needed=False, margin=ds.target_margin, notes=("no comfort check is flagged",))
+        return DampingAdvice(needed=False, margin=ds.target_margin,
+                             notes=("no comfort check within its method's range is flagged",) + outside_notes)
     occ, src, _ = resolve_occupancy(cs, stick, settings)
     chain = ScreeningChain(stick, modes, cs, occ, src, "accel_corners" in results)
     accel = _results_list(results)
@@ -1059,7 +1071,8 @@ def advise(stick: StickModel, building: BuildingTakeoff, settings: Mapping[str, 
             keep = (mode_out, tanks, dnotes)
             if loop.passes:
                 break
-            worst = max((a.value / (ds.target_margin * a.limit) for a in after if not a.passes), default=1.0)
+            worst = max((a.value / (ds.target_margin * a.limit) for a in after if a.valid and not a.passes),
+                        default=1.0)
             factor = min(max(worst**4, 1.1), 4.0)
             saturated = True
             for m, n in needs.items():
@@ -1082,7 +1095,7 @@ def advise(stick: StickModel, building: BuildingTakeoff, settings: Mapping[str, 
                            mass_ratio_required=required[m.mode_index].mu if m.mass_ratio_required is not None else None)
                    for m in final_modes]
     return DampingAdvice(needed, ds.target_margin, tuple(advices), tuple(final_modes), final_tanks, tuple(loops),
-                         tuple(notes))
+                         tuple(notes) + outside_notes)
 
 
 def _merge_modes(current: list[ModeDampers], new: list[ModeDampers], kind: str) -> list[ModeDampers]:

@@ -31,3 +31,12 @@ def test_low_building_is_not_wind_sensitive():
     # common practice: below 30 m (settings [levels] min_wind_height_m) comfort screening is not needed
     a = assess({"comfort_checks": (chk(30, 25),)}, height_m=12, min_wind_height_m=30)
     assert a.status == "pass" and "not wind-sensitive" in a.reasons[0]
+
+
+def test_out_of_range_estimates_cannot_clear_or_govern_alone():
+    valid_ok = chk(10, 25)
+    extrapolated = Check("10-year peak acceleration (office)", "NBCC", 60, 25, "mg", False, valid=False)
+    a = assess({"comfort_checks": (valid_ok, extrapolated)}, height_m=150, min_wind_height_m=30)
+    assert a.status == "incomplete" and "wind-tunnel" in a.reasons[-1]
+    a = assess({"comfort_checks": (chk(30, 25), extrapolated)}, height_m=150, min_wind_height_m=30)
+    assert a.status == "flagged" and a.governing.value == 30  # the valid failing check governs

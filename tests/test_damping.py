@@ -79,8 +79,11 @@ def test_scenario_is_flagged(flagged):
     _, res, advice = flagged
     assert any(not c.passes for c in res["comfort_checks"])
     assert advice.needed
-    assert len(advice.checks) == sum(not c.passes for c in res["comfort_checks"])
-    assert advice.notes == ()  # the comfort checks are reproduced by the advisor's own chain
+    # dampers are designed for the estimates within their method's range; the others are reported
+    assert len(advice.checks) == sum(not c.passes and c.valid for c in res["comfort_checks"])
+    outside = [c for c in res["comfort_checks"] if not c.passes and not c.valid]
+    assert len(advice.notes) == len(outside)  # the comfort checks are reproduced by the advisor's own chain
+    assert all("validity range" in n for n in advice.notes)
 
 
 def test_required_damping_matches_inverse_sqrt_rule_for_resonant_en(flagged):
@@ -114,7 +117,10 @@ def test_required_damping_reaches_the_target(flagged):
 def test_nbcc_rule_is_close_but_not_exact(flagged):
     # NBCC along-wind: the peak factor g_p depends on damping through nu, so the response model
     # and the 1/sqrt rule differ, by a few per cent (methods.md section 2 formulas)
-    _, _, advice = flagged
+    ctx, res, _ = flagged
+    # treat the NBCC estimates as within range here, to exercise the advisor on them
+    checks = tuple(replace(c, valid=True) for c in res["comfort_checks"])
+    advice = damping.advise(ctx.stick, ctx.building, ctx.settings, res["modes"], res, checks)
     nb = [a for a in advice.checks if a.method == wind_nbcc.METHOD]
     assert nb
     for a in nb:
@@ -149,7 +155,7 @@ def test_closing_the_loop_passes(flagged):
     assert {lp.damper_type for lp in advice.loops} == {"tmd", "tsd", "tlcd"}
     for lp in advice.loops:
         assert lp.passes
-        assert lp.checks and all(c.value_after_mg <= c.limit_after_mg for c in lp.checks)
+        assert lp.checks and all(c.value_after_mg <= c.limit_after_mg for c in lp.checks if c.valid)
         assert all(c.value_after_mg < c.value_before_mg for c in lp.checks)
         assert len(lp.checks) == len(res["comfort_checks"])
 
