@@ -44,6 +44,8 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+import numpy as np
+import shapely
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
@@ -52,7 +54,7 @@ from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_shares
 from .materials import MaterialBook
-from .plan_moments import MassMoments, area_moments, polygons_of
+from .plan_moments import MassMoments, area_moments_many, polygons_of
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -126,10 +128,11 @@ def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
     shapes = [s for s in shapes if s is not None and not s.is_empty]
     if not shapes:
         return (0.0, 0.0)
-    minx = min(s.bounds[0] for s in shapes)
-    miny = min(s.bounds[1] for s in shapes)
-    maxx = max(s.bounds[2] for s in shapes)
-    maxy = max(s.bounds[3] for s in shapes)
+    arr = np.empty(len(shapes), dtype=object)
+    arr[:] = shapes
+    b = shapely.bounds(arr)
+    minx, miny = float(b[:, 0].min()), float(b[:, 1].min())
+    maxx, maxy = float(b[:, 2].max()), float(b[:, 3].max())
     return ((minx + maxx) / 2, (miny + maxy) / 2)
 
 
@@ -146,6 +149,8 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     loose = [MassMoments(ref) for _ in range(n)]
     skipped = 0
     partitions: list[float] = []
+    # plan moments of every wall, opening hole and column in one vectorised pass each
+    kept_walls = []
     for w in layout.walls:
         if w.load_bearing is False or (w.load_bearing is None and 0 < w.thickness_m < PARTITION_MAX_THICKNESS_M):
             partitions.append(w.plan_area_m2 * w.height_m)
@@ -155,11 +160,9 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
                 and not w.footprint.is_empty and w.footprint.area > 0):
             skipped += 1
             continue
-        m = w.footprint.area * w.height_m * mat.density_kg_m3
-        mom = area_moments(w.footprint, ref)
-        for i, f in enumerate(vertical_shares(nodes, w.base_elevation_m, w.top_elevation_m)):
-            if f:
-                walls[i].add_moments(m * f, mom)
+        kept_walls.append((w, mat))
+    holes = []
+    for w, mat in kept_walls:
         for op in w.openings:
             if not _finite(op.start_m, op.end_m, op.sill_m, op.head_m):
                 continue
@@ -167,19 +170,34 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             sill, head = max(0.0, op.sill_m), min(w.height_m, op.head_m)
             if hole is None or head <= sill:
                 continue
+            holes.append((w, mat, hole, sill, head))
+    wall_moms = area_moments_many([w.footprint for w, _ in kept_walls], ref)
+    hole_moms = area_moments_many([h[2] for h in holes], ref)
+    k = 0
+    for (w, mat), mom in zip(kept_walls, wall_moms):
+        m = w.footprint.area * w.height_m * mat.density_kg_m3
+        for i, f in enumerate(vertical_shares(nodes, w.base_elevation_m, w.top_elevation_m)):
+            if f:
+                walls[i].add_moments(m * f, mom)
+        while k < len(holes) and holes[k][0] is w:
+            _, _, hole, sill, head = holes[k]
+            hmom = hole_moms[k]
+            k += 1
             mh = hole.area * (head - sill) * mat.density_kg_m3
             z0 = w.base_elevation_m + sill
             for i, f in enumerate(vertical_shares(nodes, z0, w.base_elevation_m + head)):
                 if f:
-                    walls[i].add_area(-mh * f, hole)
+                    walls[i].add_moments(-mh * f, hmom)
+    kept_cols = []
     for c in layout.columns:
         mat = book.get(c.material, "columns")
         if not (_finite(c.height_m, c.base_elevation_m) and c.height_m > 0 and c.section is not None
                 and not c.section.is_empty and c.section.area > 0):
             skipped += 1
             continue
+        kept_cols.append((c, mat))
+    for (c, mat), mom in zip(kept_cols, area_moments_many([c.section for c, _ in kept_cols], ref)):
         m = c.section.area * c.height_m * mat.density_kg_m3
-        mom = area_moments(c.section, ref)
         for i, f in enumerate(vertical_shares(nodes, c.base_elevation_m, c.top_elevation_m)):
             if f:
                 cols[i].add_moments(m * f, mom)
