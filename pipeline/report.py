@@ -359,12 +359,15 @@ def render_report(run, *, when: datetime | None = None) -> str:
             for m in modal.modes[:3]:
                 cards.append((f"T{m.index} ({m.kind})", f"{m.period_s:.2f} s"))
         for rp in (1.0, 10.0):
-            worst = [c for c in b.assessment.checks if c.unit == "mg" and c.return_period_yr == rp]
-            if worst:
-                w = max(worst, key=lambda c: c.value)
-                cards.append((f"{rp:g}-year peak ({w.method.split(' ')[0]})", f"{w.value:.1f} mg / {w.limit:.1f}"))
+            cands = [c for c in b.assessment.checks if c.unit == "mg" and c.return_period_yr == rp]
+            valid = [c for c in cands if c.valid] or cands
+            if valid:
+                w = max(valid, key=lambda c: c.ratio)
+                cards.append((f"{rp:g}-year peak, {w.method}", f"{w.value:.1f} mg / limit {w.limit:.1f}"))
         if gov is not None:
-            cards.append(("governing", f"{gov.criterion}: {gov.value:.2f} {gov.unit} vs {gov.limit:.2f}"))
+            cards.append((f"governing: {gov.criterion} ({gov.method})",
+                          f"{gov.value:.3g} {'' if gov.unit == '-' else gov.unit} vs {gov.limit:.3g} "
+                          f"(ratio {gov.ratio:.2f})"))
         out.append("<div class='cards'>" + "".join(
             f"<div class='card'><div class='v'>{_e(v)}</div><div class='l'>{_e(k)}</div></div>" for k, v in cards)
             + "</div>")

@@ -233,8 +233,13 @@ def _check_from(rows: list[ComfortRow]) -> Check | None:
         notes.append("outside the method's range: " + gov.note)
     elif gov.note:
         notes.append(gov.note)
+    parts: list[str] = []  # the cases behind a row repeat the same validity notes: keep each once
+    for n in notes:
+        for part in n.split("; "):
+            if part and part not in parts:
+                parts.append(part)
     return Check(gov.criterion, gov.method, gov.value_mg, gov.limit_mg, "mg", gov.value_mg <= gov.limit_mg,
-                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(notes), valid=gov.valid)
+                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(parts), valid=gov.valid)
 
 
 def comfort_assessment(results: list[AccelerationResult], corners: CornerResult | None, cs: ComfortSettings,

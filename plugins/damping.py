@@ -424,7 +424,7 @@ class DampingAdvice:
             return ""
         passing = [lp.damper_type.upper() for lp in self.loops if lp.passes]
         return (
-            f"The scheme fails {g.criterion.lower()} by {g.method}: {g.value_mg:.1f} mg against {g.limit_mg:.1f} mg. "
+            f"The scheme fails the {g.criterion} check by {g.method}: {g.value_mg:.1f} mg against {g.limit_mg:.1f} mg. "
             "The wind response was recomputed as a function of damping and solved for the limit (with a "
             f"{100 * (1 - self.margin):.0f} % margin). An auxiliary damper tuned to the responding mode adds "
             "damping; its size follows from the mass ratio that gives that damping in a two-degree-of-freedom "
