@@ -96,11 +96,13 @@ theorem J_o = J_c + m d^2), with (dx, dy) = mass centre - origin::
 from __future__ import annotations
 
 import math
+import weakref
 from collections import defaultdict
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
+from functools import lru_cache, partial
+from typing import Any
 
 import numpy as np
-from functools import lru_cache
 
 from scipy.linalg import LinAlgError, cho_factor, solveh_banded
 
@@ -121,6 +123,8 @@ __all__ = [
     "cantilever_runs",
     "assembly_notes",
     "is_positive_definite",
+    "cholesky_or_none",
+    "stiffness_factor",
 ]
 
 G_STANDARD = 9.81  # m/s^2, as used throughout the project (methods.md conventions)
@@ -208,13 +212,27 @@ def floor_mass_matrix(level: Level, origin: Sequence[float]) -> np.ndarray:
     return np.array([[m, 0.0, -m * dy], [0.0, m, m * dx], [-m * dy, m * dx, jo]])
 
 
+def _floor_mass_blocks(stick: StickModel) -> np.ndarray:
+    """(N, 3, 3) stack of :func:`floor_mass_matrix` of every floor (same formulas, vectorised)."""
+    m = np.array([float(lv.mass_kg) for lv in stick.levels])
+    dx = np.array([float(lv.mass_centre_m[0]) for lv in stick.levels]) - float(stick.origin_m[0])
+    dy = np.array([float(lv.mass_centre_m[1]) for lv in stick.levels]) - float(stick.origin_m[1])
+    jo = np.array([float(lv.polar_moment_kg_m2) for lv in stick.levels]) + m * (dx * dx + dy * dy)
+    out = np.zeros((len(m), 3, 3))
+    out[:, 0, 0] = out[:, 1, 1] = m
+    out[:, 0, 2] = out[:, 2, 0] = -m * dy
+    out[:, 1, 2] = out[:, 2, 1] = m * dx
+    out[:, 2, 2] = jo
+    return out
+
+
 def mass_matrix(stick: StickModel) -> np.ndarray:
     """Lumped rigid-floor mass matrix (3N x 3N), symmetric positive definite."""
     _check_stick(stick)
     n = stick.n_levels
     mm = np.zeros((3 * n, 3 * n))
-    for i, lv in enumerate(stick.levels):
-        mm[3 * i:3 * i + 3, 3 * i:3 * i + 3] = floor_mass_matrix(lv, stick.origin_m)
+    ii = np.arange(n)
+    mm.reshape(n, 3, n, 3)[ii, :, ii, :] = _floor_mass_blocks(stick)
     return mm
 
 
@@ -402,28 +420,36 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
             continue
         bpos[node] = nq + 2 * len(bpos)
     nloc = nq + 2 * len(bpos)
-    kl = np.zeros((nloc, nloc))
+    # Every element maps its 8 freedoms onto 10 local ones: [floor below (3), slopes below (2),
+    # floor above (3), slopes above (2)]; a freedom the element lacks (no floor or slopes below
+    # at a fixed base) maps to a spare index ``nloc`` with a zero block, dropped afterwards.
+    n_el = len(run)
+    gm = np.zeros((n_el, 8, 10))
+    cols = np.full((n_el, 10), nloc, dtype=np.intp)
+    eye2 = np.eye(2)
     for e, s in enumerate(run):
-        ke = _beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
         amap = _plan_map(s.centre_m, origin)
-        # compact map from the element's own freedoms to the (at most 10) local ones it touches
-        cols: list[int] = []
-        gm = np.zeros((8, 10))
         i = s.level_index
         if i - 1 >= 0:
             p = 3 * fpos[i - 1]
-            gm[0:2, len(cols):len(cols) + 3] = amap
-            cols += [p, p + 1, p + 2]
+            gm[e, 0:2, 0:3] = amap
+            cols[e, 0:3] = (p, p + 1, p + 2)
         if e in bpos:
-            gm[2:4, len(cols):len(cols) + 2] = np.eye(2)
-            cols += [bpos[e], bpos[e] + 1]
+            gm[e, 2:4, 3:5] = eye2
+            cols[e, 3:5] = (bpos[e], bpos[e] + 1)
         p = 3 * fpos[i]
-        gm[4:6, len(cols):len(cols) + 3] = amap
-        cols += [p, p + 1, p + 2]
-        gm[6:8, len(cols):len(cols) + 2] = np.eye(2)
-        cols += [bpos[e + 1], bpos[e + 1] + 1]
-        gm = gm[:, :len(cols)]
-        kl[np.ix_(cols, cols)] += gm.T @ ke @ gm
+        gm[e, 4:6, 5:8] = amap
+        cols[e, 5:8] = (p, p + 1, p + 2)
+        gm[e, 6:8, 8:10] = eye2
+        cols[e, 8:10] = (bpos[e + 1], bpos[e + 1] + 1)
+    kes = np.stack([_beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
+                    for s in run])
+    contrib = np.matmul(np.matmul(gm.transpose(0, 2, 1), kes), gm)
+    # element after element, as a loop of "kl[cols, cols] += contribution" would add them
+    # (bincount sums the weights of each index in input order)
+    flat = (cols[:, :, None] * (nloc + 1) + cols[:, None, :]).ravel()
+    kl = np.bincount(flat, weights=contrib.ravel(), minlength=(nloc + 1) ** 2).reshape(nloc + 1, nloc + 1)
+    kl = kl[:nloc, :nloc]
     kqq, kqb, kbb = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
     # static condensation of the slopes (they carry no mass): K* = Kqq - Kqb Kbb^-1 Kbq
     # Kbb couples only neighbouring nodes (2 slopes each): half-bandwidth 3, banded Cholesky
@@ -481,13 +507,72 @@ def _storey_map(n: int, i: int) -> tuple[np.ndarray, np.ndarray]:
     return np.arange(3 * i - 3, 3 * i + 3), np.hstack([-np.eye(3), np.eye(3)])
 
 
+# Matrices of a stick model are kept while the model lives (plugins ask for the same matrix
+# one after the other): id(stick) -> (weak reference to it, {key: read-only array}).
+_MEMO: dict[int, tuple[weakref.ref, dict]] = {}
+
+
+def _forget(ref: weakref.ref, key: int) -> None:
+    entry = _MEMO.get(key)
+    if entry is not None and entry[0] is ref:
+        del _MEMO[key]
+
+
+def _memoised(stick: StickModel, key: tuple, build: Callable[[], Any]) -> Any:
+    """``build()`` once per live stick model and key (frozen models: the result cannot change)."""
+    entry = _MEMO.get(id(stick))
+    if entry is None or entry[0]() is not stick:
+        try:
+            ref = weakref.ref(stick, partial(_forget, key=id(stick)))
+        except TypeError:  # not weakly referenceable: no memo
+            return build()
+        entry = _MEMO[id(stick)] = (ref, {})
+    if key not in entry[1]:
+        entry[1][key] = build()
+    return entry[1][key]
+
+
 def stiffness_matrix(stick: StickModel, *, p_delta: bool = False, g: float = G_STANDARD) -> np.ndarray:
     """Lateral stiffness matrix (3N x 3N) condensed onto the floor freedoms.
 
     With ``p_delta`` the geometric stiffness of :func:`geometric_stiffness` is added.
     Symmetric; positive definite when every floor is restrained in x, y and twist
     (and, with P-Delta, when the building is stable under its own weight).
+    Assembled once per stick model and (p_delta, g) while the model lives; every call
+    returns a fresh copy.
     """
+    return _stiffness(stick, p_delta, g).copy()
+
+
+def stiffness_factor(stick: StickModel, *, p_delta: bool = False, g: float = G_STANDARD
+                     ) -> tuple[np.ndarray, bool] | None:
+    """Cholesky factor (``scipy.linalg.cho_factor`` form, for ``cho_solve``) of
+    :func:`stiffness_matrix`, or None when that matrix is not positive definite.
+    Computed once per stick model and (p_delta, g) while the model lives; do not modify it."""
+    def build() -> tuple[np.ndarray, bool] | None:
+        fac = cholesky_or_none(_stiffness(stick, p_delta, g))
+        if fac is not None:
+            fac[0].setflags(write=False)
+        return fac
+
+    return _memoised(stick, ("chol", bool(p_delta), float(g)), build)
+
+
+def _readonly(a: np.ndarray) -> np.ndarray:
+    a.setflags(write=False)
+    return a
+
+
+def _stiffness(stick: StickModel, p_delta: bool, g: float) -> np.ndarray:
+    """The memoised, read-only :func:`stiffness_matrix`."""
+    k0 = _memoised(stick, ("k", False), lambda: _readonly(_stiffness_matrix(stick)))
+    if not p_delta:
+        return k0
+    return _memoised(stick, ("k", True, float(g)), lambda: _readonly(k0 + geometric_stiffness(stick, g)))
+
+
+def _stiffness_matrix(stick: StickModel) -> np.ndarray:
+    """Assemble the stiffness matrix without P-Delta (see :func:`stiffness_matrix`)."""
     _check_stick(stick)
     n = stick.n_levels
     kg = np.zeros((3 * n, 3 * n))
@@ -495,25 +580,52 @@ def stiffness_matrix(stick: StickModel, *, p_delta: bool = False, g: float = G_S
         _add_run(kg, stick, run)
         for wr in warping_runs(run):
             _add_warping_run(kg, wr)
-    for s in stick.segments:
-        i = s.level_index
-        idx, b = _storey_map(n, i)
-        if s.kind in CANTILEVER_KINDS:
-            if s.ecw_nm4 > 0:
-                continue  # part of a Vlasov torsion beam (GJ included there)
-            if s.gj_nm2 > 0:  # St Venant torsion rod between the floors
-                kt = s.gj_nm2 / s.length_m
-                row = b[2]
-                kg[np.ix_(idx, idx)] += kt * np.outer(row, row)
-        else:  # frame: storey springs at centre_m
-            a3 = np.vstack([_plan_map(s.centre_m, stick.origin_m), [0.0, 0.0, 1.0]])
-            d = a3 @ b  # drift at the frame's centre (x, y) and twist drift
-            kd = np.diag([s.k_x_n_m, s.k_y_n_m, s.k_twist_nm_rad])
-            kg[np.ix_(idx, idx)] += d.T @ kd @ d
-    kg = 0.5 * (kg + kg.T)
-    if p_delta:
-        kg = kg + geometric_stiffness(stick, g)
-    return kg
+    _add_storey_springs(kg, stick)
+    return 0.5 * (kg + kg.T)
+
+
+def _add_storey_springs(kg: np.ndarray, stick: StickModel) -> None:
+    """Add the St Venant torsion rods and the frame springs of every storey.
+
+    Each such segment gives one block on the drift of its storey, d^T k d with d the map
+    from the floor freedoms to the drift (module doc): for a rod d is the twist drift and
+    k = GJ/L, for a frame d is the drift at its centre (x, y) and the twist drift and
+    k = diag(k_x, k_y, k_twist). The blocks are computed together and added segment after
+    segment (in ``stick.segments`` order)."""
+    n = stick.n_levels
+    segs = [s for s in stick.segments
+            if s.kind not in CANTILEVER_KINDS or (s.ecw_nm4 <= 0 and s.gj_nm2 > 0)]
+    # cantilevers with E C_w > 0 are part of a Vlasov torsion beam (GJ included there)
+    if not segs:
+        return
+    lev = np.array([s.level_index for s in segs], dtype=np.intp)
+    frame = np.array([s.kind not in CANTILEVER_KINDS for s in segs])
+    up = lev > 0
+    b = np.where(up[:, None, None], np.hstack([-np.eye(3), np.eye(3)]),
+                 np.hstack([np.zeros((3, 3)), np.eye(3)]))  # floor freedoms -> storey drift
+    ox, oy = float(stick.origin_m[0]), float(stick.origin_m[1])
+    dx = np.array([float(s.centre_m[0]) - ox for s in segs])
+    dy = np.array([float(s.centre_m[1]) - oy for s in segs])
+    a3 = np.zeros((len(segs), 3, 3))
+    a3[:, 0, 0] = a3[:, 1, 1] = a3[:, 2, 2] = 1.0
+    a3[:, 0, 2] = -dy
+    a3[:, 1, 2] = dx
+    d = np.matmul(a3, b)
+    kd = np.zeros((len(segs), 3, 3))
+    kd[:, 0, 0] = [s.k_x_n_m for s in segs]
+    kd[:, 1, 1] = [s.k_y_n_m for s in segs]
+    kd[:, 2, 2] = [s.k_twist_nm_rad for s in segs]
+    frame_blocks = np.matmul(np.matmul(d.transpose(0, 2, 1), kd), d)
+    kt = np.array([s.gj_nm2 / s.length_m if not f else 0.0 for s, f in zip(segs, frame)])
+    row = b[:, 2, :]
+    rod_blocks = kt[:, None, None] * (row[:, :, None] * row[:, None, :])
+    blocks = np.where(frame[:, None, None], frame_blocks, rod_blocks)
+    spare = 3 * n  # a spare row/column stands for the missing floor below the lowest storey
+    at = np.where(up[:, None], 3 * lev[:, None] - 3 + np.arange(6), np.r_[[spare] * 3, np.arange(3)][None, :])
+    ext = np.zeros((3 * n + 1, 3 * n + 1))
+    ext[:3 * n, :3 * n] = kg
+    np.add.at(ext.reshape(-1), (at[:, :, None] * (3 * n + 1) + at[:, None, :]).ravel(), blocks.ravel())
+    kg[...] = ext[:3 * n, :3 * n]
 
 
 def geometric_stiffness(stick: StickModel, g: float = G_STANDARD) -> np.ndarray:
@@ -525,22 +637,34 @@ def geometric_stiffness(stick: StickModel, g: float = G_STANDARD) -> np.ndarray:
     if not (math.isfinite(g) and g >= 0):
         raise ValueError(f"gravity must be finite and >= 0, got {g!r}")
     n = stick.n_levels
-    kgeo = np.zeros((3 * n, 3 * n))
-    above = np.zeros((3, 3))
-    for i in range(n - 1, -1, -1):
-        lv = stick.levels[i]
-        above = above + floor_mass_matrix(lv, stick.origin_m)
+    for lv in reversed(stick.levels):
         if not (math.isfinite(lv.height_m) and lv.height_m > 0):
             raise InputError(f"{_where(stick)}: floor {lv.name!r} has a storey height {lv.height_m!r} m")
-        idx, b = _storey_map(n, i)
-        kgeo[np.ix_(idx, idx)] -= (g / lv.height_m) * (b.T @ above @ b)
+    fm = _floor_mass_blocks(stick)
+    # weight above each storey: floors summed from the top down, one after the other
+    above = np.cumsum(fm[::-1], axis=0)[::-1]
+    h = np.array([lv.height_m for lv in stick.levels], dtype=float)
+    blk = (g / h)[:, None, None] * above  # b^T (sum M) b with b = [-I, I] is [[A, -A], [-A, A]]
+    kgeo = np.zeros((3 * n, 3 * n))
+    kv = kgeo.reshape(n, 3, n, 3)
+    ii = np.arange(n)
+    # -(g/h_i) b^T A_i b of storey i: -blk_i at floors i and i-1, +blk_i between them; added in
+    # the order of a loop over the storeys from the top down
+    kv[ii[:-1], :, ii[:-1], :] -= blk[1:]
+    kv[ii, :, ii, :] -= blk
+    kv[ii[1:], :, ii[:-1], :] += blk[1:]
+    kv[ii[:-1], :, ii[1:], :] += blk[1:]
     return 0.5 * (kgeo + kgeo.T)
 
 
 def is_positive_definite(a: np.ndarray) -> bool:
     """True when the symmetric matrix ``a`` admits a Cholesky factorisation."""
+    return cholesky_or_none(a) is not None
+
+
+def cholesky_or_none(a: np.ndarray) -> tuple[np.ndarray, bool] | None:
+    """``scipy.linalg.cho_factor(a)`` (for ``cho_solve``), or None when ``a`` is not positive definite."""
     try:
-        cho_factor(a)
+        return cho_factor(a)
     except LinAlgError:
-        return False
-    return True
+        return None

@@ -34,14 +34,13 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.linalg import eigh
+from scipy.linalg import cho_solve, eigh
 
 from swayscreen.pipeline.assembly import (
     G_STANDARD,
     assembly_notes,
-    geometric_stiffness,
-    is_positive_definite,
     mass_matrix,
+    stiffness_factor,
     stiffness_matrix,
 )
 from swayscreen.pipeline.errors import InputError
@@ -203,7 +202,8 @@ def _normalise(phi: np.ndarray, radii: np.ndarray) -> np.ndarray:
 
 
 def _solve(k: np.ndarray, m: np.ndarray, n_modes: int) -> tuple[np.ndarray, np.ndarray]:
-    w2, vecs = eigh(k, m, subset_by_index=[0, n_modes - 1])
+    # the lowest modes only (LAPACK sygvx); the matrices are finite by construction
+    w2, vecs = eigh(k, m, subset_by_index=[0, n_modes - 1], check_finite=False)
     return w2, vecs
 
 
@@ -220,7 +220,14 @@ def modal_analysis(
     k0 = stiffness_matrix(stick)
     n = stick.n_levels
     ndof = 3 * n
-    if not is_positive_definite(k0):
+    # One Cholesky factorisation per matrix, shared with the other plugins (assembly memo).
+    # K + K_G positive definite implies K positive definite (K_G is negative semi-definite),
+    # so K is factorised only when its factor is used or K + K_G is not positive definite.
+    kp = stiffness_matrix(stick, p_delta=True, g=g)  # = K + K_G (geometric_stiffness)
+    fac_p = stiffness_factor(stick, p_delta=True, g=g)
+    stable = fac_p is not None
+    fac_0 = stiffness_factor(stick) if (not stable or not p_delta) else None
+    if not stable and fac_0 is None:
         raise InputError(
             f"stick model of building {stick.building_name or stick.building_id!r}: the lateral stiffness is "
             "singular (some floor has no lateral system in x, y or twist); periods cannot be computed"
@@ -230,8 +237,6 @@ def modal_analysis(
     if n_modes > ndof:
         warnings.append(f"{n_modes} modes requested; the model has only {ndof} freedoms")
         n_modes = ndof
-    kp = k0 + geometric_stiffness(stick, g)
-    stable = is_positive_definite(kp)
     if p_delta and not stable:
         warnings.append(
             "P-Delta: the building is unstable under its own weight (stiffness with the geometric "
@@ -239,10 +244,11 @@ def modal_analysis(
         )
     use_pd = p_delta and stable
     kk = kp if use_pd else k0
+    fac = fac_p if use_pd else fac_0
     w2, vecs = _solve(kk, mm, n_modes)
 
     def first_period(k: np.ndarray) -> float:
-        return _period(float(eigh(k, mm, eigvals_only=True, subset_by_index=[0, 0])[0]))
+        return _period(float(eigh(k, mm, eigvals_only=True, subset_by_index=[0, 0], check_finite=False)[0]))
 
     if use_pd:
         t1_with, t1_without = _period(float(w2[0])), first_period(k0)
@@ -305,9 +311,10 @@ def modal_analysis(
     ray_t: dict[str, float] = {}
     ray_d: dict[str, float] = {}
     top = n - 1
-    for d in ("x", "y"):
-        force = g * (mm @ patterns[d])
-        u = np.linalg.solve(kk, force)
+    forces = np.column_stack([g * (mm @ patterns[d]) for d in ("x", "y")])
+    sway = cho_solve(fac, forces, check_finite=False)  # both load cases with the one factor
+    for c, d in enumerate(("x", "y")):
+        force, u = forces[:, c], sway[:, c]
         w2r = float(force @ u) / float(u @ mm @ u)
         ray_t[d] = _period(w2r)
         ray_d[d] = float((tmat @ u)[3 * top + (0 if d == "x" else 1)])
