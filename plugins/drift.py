@@ -29,6 +29,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from scipy.linalg import cho_solve
 
 from swayscreen.pipeline.errors import InputError
 from swayscreen.pipeline.plugin_api import BasicPlugin, Check, Context
@@ -55,6 +56,7 @@ __all__ = [
     "load_vector",
     "solve_displacements",
     "drift_profile",
+    "plate_points",
     "DriftCase",
     "DriftResult",
     "drift_analysis",
@@ -114,28 +116,43 @@ def solve_displacements(stiffness: np.ndarray, load: np.ndarray, name: str = "bu
     return u.reshape(-1, 3)
 
 
-def drift_profile(stick: StickModel, displacements: np.ndarray) -> tuple[np.ndarray, np.ndarray, float, int,
-                                                                          tuple[float, float]]:
+def plate_points(stick: StickModel) -> tuple[np.ndarray, np.ndarray]:
+    """The points where drift is measured: the plate hull vertices of every floor, stacked.
+
+    Returns (points (P, 2), floor index of each point (P,)), floors lowest first."""
+    pts = [plan_points(level_plate(lv)) for lv in stick.levels]
+    owner = np.repeat(np.arange(len(pts)), [len(p) for p in pts])
+    return np.concatenate(pts, axis=0).reshape(-1, 2), owner
+
+
+def drift_profile(stick: StickModel, displacements: np.ndarray,
+                  points: tuple[np.ndarray, np.ndarray] | None = None
+                  ) -> tuple[np.ndarray, np.ndarray, float, int, tuple[float, float]]:
     """(storey drift m (n,), storey drift ratio (n,), top drift m, index of the governing top point,
-    governing top point) over the plate hull vertices of each floor."""
+    governing top point) over the plate hull vertices of each floor.
+
+    ``points``: :func:`plate_points` of ``stick`` when already known (the same for every load case)."""
     u = np.asarray(displacements, dtype=float)
     n = stick.n_levels
-    drift = np.zeros(n)
-    ratio = np.zeros(n)
-    for i, lv in enumerate(stick.levels):
-        pts = plan_points(level_plate(lv))
-        ui = point_displacement(np.repeat(u[i:i + 1], len(pts), axis=0), pts, stick.origin_m)
-        below = (point_displacement(np.repeat(u[i - 1:i], len(pts), axis=0), pts, stick.origin_m)
-                 if i > 0 else np.zeros_like(ui))
-        d = np.sqrt(np.sum((ui - below) ** 2, axis=1))
-        h = lv.elevation_m - (stick.levels[i - 1].elevation_m if i > 0 else stick.base_elevation_m)
-        drift[i] = float(d.max())
-        ratio[i] = drift[i] / h
-    pts = plan_points(level_plate(stick.levels[-1]))
-    ut = point_displacement(np.repeat(u[-1:], len(pts), axis=0), pts, stick.origin_m)
-    mag = np.sqrt(np.sum(ut ** 2, axis=1))
+    pts, owner = points if points is not None else plate_points(stick)
+    ox, oy = stick.origin_m
+    dx = pts[:, 0] - ox
+    dy = pts[:, 1] - oy
+    here = u[owner]  # displacements (x, y, twist) of the floor of each point
+    below = np.where((owner > 0)[:, None], u[np.maximum(owner - 1, 0)], 0.0)  # the floor under it (base: 0)
+    ui = np.column_stack([here[:, 0] - here[:, 2] * dy, here[:, 1] + here[:, 2] * dx])
+    ub = np.column_stack([below[:, 0] - below[:, 2] * dy, below[:, 1] + below[:, 2] * dx])
+    d = np.sqrt(np.sum((ui - ub) ** 2, axis=1))
+    starts = np.searchsorted(owner, np.arange(n))
+    drift = np.maximum.reduceat(d, starts)
+    elev = np.array([lv.elevation_m for lv in stick.levels], dtype=float)
+    h = elev - np.concatenate([[stick.base_elevation_m], elev[:-1]])
+    ratio = drift / h
+    top = owner == n - 1
+    tpts = pts[top]
+    mag = np.sqrt(np.sum(ui[top] ** 2, axis=1))
     k = int(np.argmax(mag))
-    return drift, ratio, float(mag[k]), k, (float(pts[k, 0]), float(pts[k, 1]))
+    return drift, ratio, float(mag[k]), k, (float(tpts[k, 0]), float(tpts[k, 1]))
 
 
 @dataclass(frozen=True)
@@ -212,10 +229,10 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
     ``stiffness``: the (3n, 3n) matrix, a function of the stick model giving it, or None to use
     :func:`swayscreen.pipeline.assembly.stiffness_matrix` (with ``p_delta`` from the settings).
     """
-    if stiffness is None:
-        from swayscreen.pipeline.assembly import stiffness_matrix
+    from swayscreen.pipeline.assembly import cholesky_or_none, stiffness_factor, stiffness_matrix
 
-        k_mat = stiffness_matrix(stick, p_delta=ds.p_delta)
+    if stiffness is None:
+        k_mat = stiffness_matrix(stick, p_delta=ds.p_delta)  # assembled once per stick (shared)
     elif callable(stiffness):
         k_mat = stiffness(stick)
     else:
@@ -226,7 +243,7 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
                          f"expected {(3 * stick.n_levels,) * 2}")
     terrain = terrain_from_settings(ws)
     rp = ws.serviceability_return_period_yr
-    cases = []
+    rows = []
     for direction in sector_directions(ws.sectors):
         am = along_wind_mode(stick, modes, ws, direction, terrain)
         cscd = 1.0
@@ -234,9 +251,23 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
             cscd = en_along_response(en_input(am, ws, rp, terrain)).c_s_c_d
         vb = basic_wind_speed(ws, rp, direction)
         forces = floor_wind_forces(am.geometry, vb, terrain, ws, cscd)
-        load = load_vector(forces, am.along, am.geometry.centre_m, stick.origin_m)
-        u = solve_displacements(k_mat, load, stick.building_name)
-        drift, ratio, top, _, top_pt = drift_profile(stick, u)
+        rows.append((direction, cscd, vb, forces, load_vector(forces, am.along, am.geometry.centre_m, stick.origin_m)))
+    # every direction at once: one factorisation (shared with the modal analysis when the
+    # matrix is the stick's own), many right-hand sides
+    loads = np.column_stack([r[4] for r in rows]) if rows else np.zeros((3 * stick.n_levels, 0))
+    fac = stiffness_factor(stick, p_delta=ds.p_delta) if stiffness is None else cholesky_or_none(k_mat)
+    if fac is not None:
+        sway = cho_solve(fac, loads, check_finite=False)
+        if not np.all(np.isfinite(sway)):
+            raise InputError(f"building {stick.building_name!r}: the drift solution is not finite "
+                             "(stiffness ill-conditioned)")
+        solutions = [sway[:, c].reshape(-1, 3) for c in range(len(rows))]
+    else:  # not positive definite (P-Delta beyond stability, or a mechanism): general solve
+        solutions = [solve_displacements(k_mat, r[4], stick.building_name) for r in rows]
+    points = plate_points(stick)
+    cases = []
+    for (direction, cscd, vb, forces, _), u in zip(rows, solutions):
+        drift, ratio, top, _, top_pt = drift_profile(stick, u, points)
         gi = int(np.argmax(ratio))
         disp = tuple((float(a), float(b), float(c)) for a, b, c in u)
         cases.append(DriftCase(direction, rp, vb, cscd, float(forces.sum()), tuple(float(f) for f in forces), disp,
