@@ -114,8 +114,9 @@ class MaterialReader:
         self.assoc: dict[int, object] = {}
         for rel in model.by_type("IfcRelAssociatesMaterial"):
             mat = rel.RelatingMaterial
-            for obj in rel.RelatedObjects or ():
-                self.assoc.setdefault(obj.id(), mat)
+            for obj in (rel.RelatedObjects or ()) if mat is not None else ():
+                if obj is not None:  # a reference to a missing instance (damaged file)
+                    self.assoc.setdefault(obj.id(), mat)
         self._props: dict[int, dict[str, float]] = {}
         for props in model.by_type("IfcMaterialProperties"):
             self._read_props(props)
@@ -184,12 +185,19 @@ class MaterialReader:
             total = 0.0
             for layer in sel.MaterialLayers or ():
                 t = (_val(layer.LayerThickness) or 0.0) * self.scale
+                if not 0.0 <= t <= 100.0:  # IfcNonNegativeLengthMeasure; no layer is 100 m thick
+                    name = attr(layer.Material, "Name") if layer.Material is not None else None
+                    self.dropped.append(f"layer #{layer.id()} ('{name or '?'}') thickness {t:g} m")
+                    t = 0.0
                 total += t
                 if layer.Material is not None:
                     parts.append((layer.Material, t))
             return parts, total, False
         if sel.is_a("IfcMaterialLayer"):
             t = (_val(sel.LayerThickness) or 0.0) * self.scale
+            if not 0.0 <= t <= 100.0:
+                self.dropped.append(f"layer #{sel.id()} thickness {t:g} m")
+                t = 0.0
             return ([(sel.Material, t)] if sel.Material is not None else []), t, False
         if sel.is_a("IfcMaterialProfileSetUsage"):
             return self._parts(sel.ForProfileSet)

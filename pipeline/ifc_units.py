@@ -192,11 +192,13 @@ class ModelContext:
         wcs: 4x4 matrix of the context's WorldCoordinateSystem (translation in metres);
             identity when absent.
         true_north_deg: angle counter-clockwise from the model's +Y axis to north (degrees,
-            in (-180, 180]); 0 when TrueNorth is absent.
+            in (-180, 180]); 0 when TrueNorth is absent or not a usable direction.
+        warnings: what was assumed (a damaged TrueNorth).
     """
 
     wcs: np.ndarray
     true_north_deg: float
+    warnings: tuple[str, ...] = ()
 
 
 def _model_context(model):
@@ -223,7 +225,10 @@ def read_context(model, axis2_matrix) -> ModelContext:
     angle = 0.0
     if tn is not None and tn.DirectionRatios:
         r = [float(v) for v in tn.DirectionRatios] + [0.0, 0.0]
-        v = wcs[:3, :3] @ np.array(r[:3])
+        big = max(abs(x) for x in r[:3])
+        if not math.isfinite(big):  # damaged: no usable direction, as if absent
+            return ModelContext(wcs, 0.0, (f"TrueNorth #{tn.id()} has non-finite ratios; north taken as model +Y",))
+        v = wcs[:3, :3] @ (np.array(r[:3]) / (big if big > 1.0 else 1.0))
         if math.hypot(v[0], v[1]) > 1e-12:
             angle = math.degrees(math.atan2(-v[0], v[1]))
             if angle <= -180.0:

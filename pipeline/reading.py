@@ -206,8 +206,8 @@ def _open_with_log(p: Path):
     log = ifcopenshell.get_log()
     bad = _ATTR_COUNT.search(log)
     if bad:
-        raise InputError(f"{p}: corrupt IFC file (instance #{bad.group(3)} has {bad.group(2)} of its "
-                         f"{bad.group(1)} attributes)")
+        raise InputError(f"{p}: corrupt IFC file (instance #{bad.group(3)} has {bad.group(2)} attribute values where "
+                         f"its type has {bad.group(1)})")
     _check_schema(p, str(getattr(model, "schema_identifier", None) or model.schema).upper())
     return model, log
 
@@ -370,30 +370,37 @@ class _Reader:
     def _scan(self) -> None:
         m = self.model
         self.container: dict[int, object] = {}
+        # references to instances missing from a damaged file read as None: skipped
         for rel in m.by_type("IfcRelContainedInSpatialStructure"):
             st_ = attr(rel, "RelatingStructure")
             for e in attr(rel, "RelatedElements") or ():
-                self.container.setdefault(e.id(), st_)
+                if e is not None and st_ is not None:
+                    self.container.setdefault(e.id(), st_)
         self.parent: dict[int, object] = {}
         self.children: dict[int, list] = defaultdict(list)
         for rel in m.by_type("IfcRelAggregates"):
             par = attr(rel, "RelatingObject")
-            for c in attr(rel, "RelatedObjects") or ():
-                self.parent.setdefault(c.id(), par)
-                self.children[par.id()].append(c)
+            for c in (attr(rel, "RelatedObjects") or ()) if par is not None else ():
+                if c is not None:
+                    self.parent.setdefault(c.id(), par)
+                    self.children[par.id()].append(c)
         if m.schema != "IFC2X3":
             for rel in m.by_type("IfcRelNests"):
                 par = attr(rel, "RelatingObject")
-                for c in attr(rel, "RelatedObjects") or ():
-                    self.parent.setdefault(c.id(), par)
+                for c in (attr(rel, "RelatedObjects") or ()) if par is not None else ():
+                    if c is not None:
+                        self.parent.setdefault(c.id(), par)
         self.voids: dict[int, list] = defaultdict(list)
         for rel in m.by_type("IfcRelVoidsElement"):
-            self.voids[attr(rel, "RelatingBuildingElement").id()].append(attr(rel, "RelatedOpeningElement"))
+            host, op = attr(rel, "RelatingBuildingElement"), attr(rel, "RelatedOpeningElement")
+            if host is not None and op is not None:
+                self.voids[host.id()].append(op)
         self.types: dict[int, object] = {}
         for rel in m.by_type("IfcRelDefinesByType"):
             t = attr(rel, "RelatingType")
-            for o in attr(rel, "RelatedObjects") or ():
-                self.types[o.id()] = t
+            for o in (attr(rel, "RelatedObjects") or ()) if t is not None else ():
+                if o is not None:
+                    self.types[o.id()] = t
         self.load_bearing: dict[int, bool] = {}
         self.occupancy: dict[int, str] = {}
         for rel in m.by_type("IfcRelDefinesByProperties"):
@@ -404,14 +411,16 @@ class _Reader:
                     lb = self._pset_load_bearing(pd)
                     if lb is not None:
                         for o in attr(rel, "RelatedObjects") or ():
-                            self.load_bearing[o.id()] = lb
+                            if o is not None:
+                                self.load_bearing[o.id()] = lb
                 elif name == "Pset_SpaceOccupancyRequirements" and pd.is_a("IfcPropertySet"):
                     for prop in attr(pd, "HasProperties") or ():
                         if attr(prop, "Name") == "OccupancyType" and prop.is_a("IfcPropertySingleValue"):
                             v = attr(prop, "NominalValue")
                             text = str(getattr(v, "wrappedValue", v) or "")
                             for o in attr(rel, "RelatedObjects") or ():
-                                self.occupancy[o.id()] = text
+                                if o is not None:
+                                    self.occupancy[o.id()] = text
 
     @staticmethod
     def _pset_load_bearing(pset) -> bool | None:
@@ -796,6 +805,7 @@ class _Reader:
         self.warnings.extend(units.warnings)
         self.geo = Geometry(units.length_m, units.angle_rad, None, self.where)
         ctx = read_context(m, self.geo.axis2)
+        self.warnings.extend(f"{self.where}: {w}" for w in ctx.warnings)
         self.geo.wcs = ctx.wcs if not np.allclose(ctx.wcs, np.eye(4)) else None
         storeys = m.by_type("IfcBuildingStorey")
         if not storeys:
