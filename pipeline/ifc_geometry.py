@@ -63,6 +63,13 @@ MAX_ELEVATION_M = 1e4
 MAX_SIZE_M = 1e4
 """Largest profile dimension, extrusion depth or element extent accepted (m): no building
 element is 10 km long (common practice)."""
+MAX_BODY_ITEMS = 10_000
+"""Most representation items (extrusions, mapped items, booleans) visited for one element:
+shared sub-trees referenced twice at every level would otherwise double the work per level."""
+MAX_BODY_FACES = 500_000
+"""Most faces read for one element body."""
+MAX_CURVE_POINTS = 1_000_000
+"""Most points in one curve (composite curves repeating a segment curve grow geometrically)."""
 _RAW_MAX = 1e15
 """Largest magnitude of any number read from the file, in file units, before unit
 conversion: keeps every square and product far from float overflow (1e30 << 1.8e308)."""
@@ -304,6 +311,8 @@ class Geometry:
         self._curve: dict[int, np.ndarray] = {}
         self._dirs: dict[int, tuple[float, float, float] | None] = {}
         self._ops: dict[int, np.ndarray] = {}
+        self._poly: dict[int, Polygon | MultiPolygon] = {}
+        self._budget = MAX_BODY_ITEMS
 
     # -- placements ------------------------------------------------------------------
     def _dir3(self, d) -> tuple[float, float, float] | None:
@@ -463,8 +472,18 @@ class Geometry:
         return pts
 
     def _curve_points(self, c, depth: int) -> np.ndarray:
+        """Memoised per curve (a sub-curve used twice is read once) and bounded in size."""
         if depth > 32:
             raise NotParametric("curve nesting too deep")
+        hit = self._curve.get(c.id())
+        if hit is None:
+            hit = self._curve_points_of(c, depth)
+            if len(hit) > MAX_CURVE_POINTS:
+                raise NotParametric(f"{c.is_a()} #{c.id()} has more than {MAX_CURVE_POINTS} points")
+            self._curve[c.id()] = hit
+        return hit
+
+    def _curve_points_of(self, c, depth: int) -> np.ndarray:
         t = c.is_a()
         if t == "IfcPolyline":
             return _checked(np.array([(_coords(p) + [0.0])[:2] for p in c.Points], dtype=float), "polyline")
@@ -593,8 +612,16 @@ class Geometry:
         return hit
 
     def _profile_polygon(self, p, depth: int) -> Polygon | MultiPolygon:
+        """Memoised per profile entity, so a sub-profile used twice is built once."""
         if depth > 16:
             raise NotParametric("profile nesting too deep")
+        hit = self._poly.get(p.id())
+        if hit is None:
+            hit = self._profile_polygon_of(p, depth)
+            self._poly[p.id()] = hit
+        return hit
+
+    def _profile_polygon_of(self, p, depth: int) -> Polygon | MultiPolygon:
         s = self.scale
         t = p.is_a()
 
@@ -719,6 +746,7 @@ class Geometry:
         """
         out: list[Prism] = []
         clipped = False
+        self._budget = MAX_BODY_ITEMS
         for it in items:
             prisms, c = self._item(it, base, 0)
             out.extend(prisms)
@@ -728,6 +756,9 @@ class Geometry:
     def _item(self, it, base: np.ndarray, depth: int) -> tuple[list[Prism], bool]:
         if depth > 16:
             raise NotParametric("representation nesting too deep")
+        self._budget -= 1
+        if self._budget < 0:
+            raise NotParametric(f"body with more than {MAX_BODY_ITEMS} representation items")
         t = it.is_a()
         if t == "IfcExtrudedAreaSolid":
             return [self._extrusion(it, base)], False
@@ -802,6 +833,7 @@ class Geometry:
         """
         out: list[Face] = []
         clipped = False
+        self._budget = MAX_BODY_ITEMS
         with np.errstate(all="ignore"):  # damaged coordinates give inf or NaN here: refused below
             for it in items:
                 c = self._faces(it, base, out, 0)
@@ -813,6 +845,10 @@ class Geometry:
     def _faces(self, it, base: np.ndarray, out: list[Face], depth: int) -> bool:
         if depth > 16:
             raise NotParametric("representation nesting too deep")
+        self._budget -= 1
+        if self._budget < 0 or len(out) > MAX_BODY_FACES:
+            raise NotParametric(f"body with more than {MAX_BODY_ITEMS} representation items or "
+                                f"{MAX_BODY_FACES} faces")
         t = it.is_a()
         s = self.scale
         rot, off = base[:3, :3] * s, base[:3, 3]

@@ -107,6 +107,9 @@ _ATTR_COUNT = re.compile(r"Expected (\d+) attribute values, found (\d+) for inst
 _NON_UNIQUE = re.compile(r"non-unique GlobalId (\S+)")
 _PARSE_ERROR = re.compile(r"\[error\](?:\s*\[[^\]\n]*\])*\s*([^\n]*?)(?: at offset (\d+))?\s*$", re.M)
 _FILE_SCHEMA = re.compile(rb"FILE_SCHEMA\s*\(\s*\(\s*'([^']*)'", re.I)
+MAX_BUILDINGS = 200
+"""Most buildings with storeys one file may hold (each is screened on its own; a campus
+export has tens; common practice)."""
 MAX_STOREYS = 1000
 """Most storeys one building may have: the tallest buildings have under 200 (common
 practice); more is damage or a generated file, and is refused before any element is read."""
@@ -835,6 +838,9 @@ class _Reader:
                                          "are read as a building of their own")
                 bld_storeys[-1].extend(orphan_storeys)
         storey_bld = {s.id(): bid for bid, ss in bld_storeys.items() for s in ss}
+        if len(bld_storeys) > MAX_BUILDINGS:
+            raise InputError(f"{self.where}: {len(bld_storeys)} buildings with storeys; more than {MAX_BUILDINGS} "
+                             "cannot be screened in one run (split the file)")
         for bid, ss in bld_storeys.items():
             if len(ss) > MAX_STOREYS:
                 b = m.by_id(bid) if bid >= 0 else None

@@ -171,6 +171,42 @@ def test_placement_cycle_is_one_line(ifc_builder, tmp_path, capsys, where):
     assert not (tmp_path / "out").exists()  # nothing written for a refused model
 
 
+# ---------------------------------------------------------------------------- shared sub-trees
+
+def test_shared_sub_trees_are_bounded(ifc_builder, tmp_path, capsys):
+    """Representation items, curves and profiles that reference one sub-tree twice at every
+    level ("billion laughs"): the work stays bounded and each element is named."""
+    b = ifc_builder("IFC4", "m")
+    building(b, 3)
+    f = b.f
+    col, slab, col2 = b.f.by_type("IfcColumn")[0], b.f.by_type("IfcSlab")[1], b.f.by_type("IfcColumn")[1]
+    item = col.Representation.Representations[0].Items[0]
+    op = f.createIfcCartesianTransformationOperator3D(None, None, f.createIfcCartesianPoint((0.0, 0.0, 0.0)), None, None)
+    for _ in range(7):  # 4^7 = 16384 extrusions
+        rep = f.createIfcShapeRepresentation(b.body_ctx, "Body", "MappedRepresentation", [item])
+        src = f.createIfcRepresentationMap(b.axis2((0, 0, 0)), rep)
+        rep4 = f.createIfcShapeRepresentation(b.body_ctx, "Body", "MappedRepresentation",
+                                              [f.createIfcMappedItem(src, op) for _ in range(4)])
+        item = f.createIfcMappedItem(f.createIfcRepresentationMap(b.axis2((0, 0, 0)), rep4), op)
+    col.Representation.Representations[0].Items = [item]
+    prof = slab.Representation.Representations[0].Items[0].SweptArea
+    curve = prof.OuterCurve
+    for _ in range(30):  # 2^30 copies of the outline
+        seg = f.createIfcCompositeCurveSegment("CONTINUOUS", True, curve)
+        curve = f.createIfcCompositeCurve([seg, seg], False)
+    prof.OuterCurve = curve
+    ex = col2.Representation.Representations[0].Items[0]
+    pr = ex.SweptArea
+    for _ in range(15):  # one square, united with itself 2^15 times: read once per level
+        pr = f.createIfcCompositeProfileDef("AREA", None, [pr, pr], None)
+    ex.SweptArea = pr
+    r = screen(capsys, b.write(tmp_path / "laughs.ifc"))
+    assert r.code in (0, 1) and r.seconds < 20
+    assert r.warned(col.GlobalId, "body with more than 10000 representation items")
+    assert r.warned(slab.GlobalId, "has more than 1000000 points")
+    assert not r.warned(col2.GlobalId, "skipped")  # the repeated profile is just a square, read
+
+
 # ---------------------------------------------------------------------------- absurd numbers
 
 def _target(b, what: str):
@@ -417,6 +453,28 @@ def test_five_thousand_storeys_are_refused_before_the_elements(ifc_builder, tmp_
     r = screen(capsys, path)
     assert r.code == 2 and "has 5002 storeys; more than 1000 cannot be screened" in r.err
     assert r.seconds < 20
+
+
+def test_too_many_buildings_are_refused(ifc_builder, tmp_path, capsys):
+    import ifcopenshell.guid
+
+    b = ifc_builder("IFC4", "m")
+    building(b, 1)
+    site = b.f.by_type("IfcSite")[0]
+    path = b.write(tmp_path / "campus.ifc")
+    first, lines, blds = 10 ** 6, [], []
+    for i in range(250):
+        bid, sid = first + 3 * i, first + 3 * i + 1
+        blds.append(f"#{bid}")
+        lines += [f"#{bid}=IFCBUILDING('{ifcopenshell.guid.new()}',$,'B{i}',$,$,$,$,$,.ELEMENT.,$,$,$);\n",
+                  f"#{sid}=IFCBUILDINGSTOREY('{ifcopenshell.guid.new()}',$,'G',$,$,$,$,$,.ELEMENT.,0.);\n",
+                  f"#{sid + 1}=IFCRELAGGREGATES('{ifcopenshell.guid.new()}',$,$,$,#{bid},(#{sid}));\n"]
+    lines.append(f"#{first + 900}=IFCRELAGGREGATES('{ifcopenshell.guid.new()}',$,$,$,#{site.id()},({','.join(blds)}));\n")
+    text = path.read_text()
+    cut = text.rindex("ENDSEC;")
+    path.write_text(text[:cut] + "".join(lines) + text[cut:])
+    r = screen(capsys, path)
+    assert r.code == 2 and "251 buildings with storeys; more than 200 cannot be screened" in r.err
 
 
 def test_more_sway_floors_than_a_stick_model_is_built_for(ifc_builder, tmp_path, capsys):
