@@ -1123,11 +1123,50 @@ def _geom_settings():
     return _SETTINGS
 
 
+MAX_ENGINE_INSTANCES = 200_000
+"""Most instances an element's representation may hold to be sent to the geometry engine."""
+
+
+def _numbers_ok(values) -> bool:
+    """True when every REAL in an attribute value (nested aggregates included) is finite and
+    of plausible size (see ``_RAW_MAX``)."""
+    for v in values:
+        if isinstance(v, float):
+            if not -_RAW_MAX <= v <= _RAW_MAX:
+                return False
+        elif isinstance(v, tuple) and not _numbers_ok(v):
+            return False
+    return True
+
+
+def engine_safe(element) -> bool:
+    """True when the element's representation (and placement chain) may go to the geometry
+    engine: no more than MAX_ENGINE_INSTANCES instances and no NaN, infinite or absurd number
+    in any of them. The engine cannot be interrupted and may loop or crash on such data, so
+    it never sees it."""
+    rep = element.get_argument(6)
+    if rep is None:
+        return True
+    found = element.file.traverse(rep, max_levels=None)
+    if len(found) > MAX_ENGINE_INSTANCES:
+        return False
+    for inst in found:
+        if not _numbers_ok(inst[i] for i in range(len(inst))):
+            return False
+    return True
+
+
 def mesh_body(element) -> MeshBody | None:
     """Tessellate one element with the geometry engine (world coordinates, metres,
-    openings not subtracted). None when the engine produces nothing."""
+    openings not subtracted). None when the engine produces nothing.
+
+    Raises:
+        NotParametric: the body is not :func:`engine_safe` (it is never given to the engine).
+    """
     import ifcopenshell.geom
 
+    if not engine_safe(element):
+        raise NotParametric("body with a NaN, infinite or absurd number (or too large) for the geometry engine")
     try:
         shape = ifcopenshell.geom.create_shape(_geom_settings(), element)
     except Exception:  # noqa: BLE001 - the engine raises RuntimeError and others

@@ -560,7 +560,10 @@ class _Reader:
                 continue
             sol = self._opening_cache.get(op.id())
             if sol is None and op.id() not in self._opening_cache:
-                sol = self._solid(op, "opening", openings=True)
+                try:
+                    sol = self._solid(op, "opening", openings=True)
+                except NotParametric:  # a damaged opening is not subtracted; its host is still read
+                    sol = None
                 self._opening_cache[op.id()] = sol
             yield op, sol
 

@@ -764,3 +764,27 @@ def test_corrupted_samples_screen_cleanly(tmp_path_factory, capsys, kind, data):
     else:
         assert (folder / "out" / "report.html").is_file()
     assert path.read_bytes() == bad  # the input is only read
+
+
+# ---------------------------------------------------------------------------- the geometry engine
+
+@pytest.mark.parametrize("angle", [None, "-inf", "1.E300"])
+def test_damaged_bodies_never_reach_the_geometry_engine(ifc_builder, tmp_path, capsys, angle):
+    """A revolved solid (read by the geometry engine, which cannot be interrupted): valid, it
+    is read as a mesh; with a non-finite or absurd angle it is refused before the engine."""
+    b = ifc_builder("IFC4", "m")
+    building(b, 2)
+    f = b.f
+    col = f.by_type("IfcColumn")[0]
+    axis = f.createIfcAxis1Placement(f.createIfcCartesianPoint((0.0, 0.0, 0.0)), f.createIfcDirection((0.0, 1.0, 0.0)))
+    rev = f.createIfcRevolvedAreaSolid(b.rect_profile(0.4, 0.4, centre=(2.0, 0.0)), b.axis2((0, 0, 0)), axis, 1.0)
+    col.Representation.Representations[0].Items = [rev]
+    path = b.write(tmp_path / "revolved.ifc")
+    if angle is not None:
+        set_raw(path, rev, 3, angle)
+    r = screen(capsys, path)
+    assert r.code in (0, 1)
+    if angle is None:
+        assert r.warned("read as a mesh projected to plan", col.GlobalId)
+    else:
+        assert r.warned(col.GlobalId, "NaN, infinite or absurd number", "for the geometry engine")
