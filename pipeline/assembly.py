@@ -190,6 +190,11 @@ def _check_segment(stick: StickModel, s: Segment) -> None:
 
 
 def _check_stick(stick: StickModel) -> None:
+    """Raise InputError for an unusable stick model (checked once per live model)."""
+    _memoised(stick, ("checked",), lambda: _check_stick_now(stick))
+
+
+def _check_stick_now(stick: StickModel) -> bool:
     if stick.n_levels == 0:
         raise InputError(f"{_where(stick)}: no floors above the base")
     if not _finite(*stick.origin_m):
@@ -198,6 +203,7 @@ def _check_stick(stick: StickModel) -> None:
         _check_level(stick, i, lv)
     for s in stick.segments:
         _check_segment(stick, s)
+    return True
 
 
 # ----------------------------------------------------------------------------------- mass
@@ -593,11 +599,24 @@ def _add_storey_springs(kg: np.ndarray, stick: StickModel) -> None:
     k = diag(k_x, k_y, k_twist). The blocks are computed together and added segment after
     segment (in ``stick.segments`` order)."""
     n = stick.n_levels
+    at, blocks = _storey_blocks(stick)
+    if not len(blocks):
+        return
+    ext = np.zeros((3 * n + 1, 3 * n + 1))
+    ext[:3 * n, :3 * n] = kg
+    np.add.at(ext.reshape(-1), (at[:, :, None] * (3 * n + 1) + at[:, None, :]).ravel(), blocks.ravel())
+    kg[...] = ext[:3 * n, :3 * n]
+
+
+def _storey_blocks(stick: StickModel) -> tuple[np.ndarray, np.ndarray]:
+    """The blocks of :func:`_add_storey_springs`: (indices (S, 6) into the floor freedoms, 3N
+    standing for the missing floor below the lowest storey; blocks (S, 6, 6)), segments in order."""
+    n = stick.n_levels
     segs = [s for s in stick.segments
             if s.kind not in CANTILEVER_KINDS or (s.ecw_nm4 <= 0 and s.gj_nm2 > 0)]
     # cantilevers with E C_w > 0 are part of a Vlasov torsion beam (GJ included there)
     if not segs:
-        return
+        return np.zeros((0, 6), dtype=np.intp), np.zeros((0, 6, 6))
     lev = np.array([s.level_index for s in segs], dtype=np.intp)
     frame = np.array([s.kind not in CANTILEVER_KINDS for s in segs])
     up = lev > 0
@@ -622,10 +641,16 @@ def _add_storey_springs(kg: np.ndarray, stick: StickModel) -> None:
     blocks = np.where(frame[:, None, None], frame_blocks, rod_blocks)
     spare = 3 * n  # a spare row/column stands for the missing floor below the lowest storey
     at = np.where(up[:, None], 3 * lev[:, None] - 3 + np.arange(6), np.r_[[spare] * 3, np.arange(3)][None, :])
-    ext = np.zeros((3 * n + 1, 3 * n + 1))
-    ext[:3 * n, :3 * n] = kg
-    np.add.at(ext.reshape(-1), (at[:, :, None] * (3 * n + 1) + at[:, None, :]).ravel(), blocks.ravel())
-    kg[...] = ext[:3 * n, :3 * n]
+    return at, blocks
+
+
+def geometric_stiffness_checks(stick: StickModel, g: float) -> None:
+    """The input checks of :func:`geometric_stiffness` (gravity, storey heights from the top down)."""
+    if not (math.isfinite(g) and g >= 0):
+        raise ValueError(f"gravity must be finite and >= 0, got {g!r}")
+    for lv in reversed(stick.levels):
+        if not (math.isfinite(lv.height_m) and lv.height_m > 0):
+            raise InputError(f"{_where(stick)}: floor {lv.name!r} has a storey height {lv.height_m!r} m")
 
 
 def geometric_stiffness(stick: StickModel, g: float = G_STANDARD) -> np.ndarray:
@@ -634,12 +659,8 @@ def geometric_stiffness(stick: StickModel, g: float = G_STANDARD) -> np.ndarray:
     Storey i has the height ``levels[i].height_m`` and carries the weight of floors i..N-1.
     """
     _check_stick(stick)
-    if not (math.isfinite(g) and g >= 0):
-        raise ValueError(f"gravity must be finite and >= 0, got {g!r}")
+    geometric_stiffness_checks(stick, g)
     n = stick.n_levels
-    for lv in reversed(stick.levels):
-        if not (math.isfinite(lv.height_m) and lv.height_m > 0):
-            raise InputError(f"{_where(stick)}: floor {lv.name!r} has a storey height {lv.height_m!r} m")
     fm = _floor_mass_blocks(stick)
     # weight above each storey: floors summed from the top down, one after the other
     above = np.cumsum(fm[::-1], axis=0)[::-1]

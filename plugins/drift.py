@@ -229,18 +229,22 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
     ``stiffness``: the (3n, 3n) matrix, a function of the stick model giving it, or None to use
     :func:`swayscreen.pipeline.assembly.stiffness_matrix` (with ``p_delta`` from the settings).
     """
-    from swayscreen.pipeline.assembly import cholesky_or_none, stiffness_factor, stiffness_matrix
+    from swayscreen.pipeline.assembly import cholesky_or_none, stiffness_matrix
+    from swayscreen.pipeline.banded import banded_stiffness
 
+    band = None
     if stiffness is None:
-        k_mat = stiffness_matrix(stick, p_delta=ds.p_delta)  # assembled once per stick (shared)
+        band = banded_stiffness(stick, p_delta=ds.p_delta)  # factorised once per stick (shared)
+        k_mat = None if band.positive_definite else stiffness_matrix(stick, p_delta=ds.p_delta)
     elif callable(stiffness):
         k_mat = stiffness(stick)
     else:
         k_mat = stiffness
-    k_mat = np.asarray(k_mat, dtype=float)
-    if k_mat.shape != (3 * stick.n_levels, 3 * stick.n_levels):
-        raise InputError(f"building {stick.building_name!r}: stiffness matrix of shape {k_mat.shape}, "
-                         f"expected {(3 * stick.n_levels,) * 2}")
+    if k_mat is not None:
+        k_mat = np.asarray(k_mat, dtype=float)
+        if k_mat.shape != (3 * stick.n_levels, 3 * stick.n_levels):
+            raise InputError(f"building {stick.building_name!r}: stiffness matrix of shape {k_mat.shape}, "
+                             f"expected {(3 * stick.n_levels,) * 2}")
     terrain = terrain_from_settings(ws)
     rp = ws.serviceability_return_period_yr
     rows = []
@@ -253,11 +257,15 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
         forces = floor_wind_forces(am.geometry, vb, terrain, ws, cscd)
         rows.append((direction, cscd, vb, forces, load_vector(forces, am.along, am.geometry.centre_m, stick.origin_m)))
     # every direction at once: one factorisation (shared with the modal analysis when the
-    # matrix is the stick's own), many right-hand sides
+    # matrix is the stick's own, banded: linear in the floors), many right-hand sides
     loads = np.column_stack([r[4] for r in rows]) if rows else np.zeros((3 * stick.n_levels, 0))
-    fac = stiffness_factor(stick, p_delta=ds.p_delta) if stiffness is None else cholesky_or_none(k_mat)
-    if fac is not None:
-        sway = cho_solve(fac, loads, check_finite=False)
+    if band is not None and band.positive_definite:
+        solve = band.solve
+    else:
+        fac = cholesky_or_none(k_mat)
+        solve = None if fac is None else (lambda b: cho_solve(fac, b, check_finite=False))
+    if solve is not None:
+        sway = solve(loads)
         if not np.all(np.isfinite(sway)):
             raise InputError(f"building {stick.building_name!r}: the drift solution is not finite "
                              "(stiffness ill-conditioned)")

@@ -34,15 +34,15 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.linalg import cho_solve, eigh
+from scipy.linalg import eigh
 
 from swayscreen.pipeline.assembly import (
     G_STANDARD,
     assembly_notes,
     mass_matrix,
-    stiffness_factor,
     stiffness_matrix,
 )
+from swayscreen.pipeline.banded import banded_stiffness
 from swayscreen.pipeline.errors import InputError
 from swayscreen.pipeline.plugin_api import BasicPlugin, Context
 from swayscreen.pipeline.settings import setting
@@ -220,14 +220,14 @@ def modal_analysis(
     k0 = stiffness_matrix(stick)
     n = stick.n_levels
     ndof = 3 * n
-    # One Cholesky factorisation per matrix, shared with the other plugins (assembly memo).
+    # Positive definiteness and the static solves from the banded (uncondensed) stiffness:
+    # linear in the floors, factorised once per stick and shared with the other plugins.
     # K + K_G positive definite implies K positive definite (K_G is negative semi-definite),
     # so K is factorised only when its factor is used or K + K_G is not positive definite.
-    kp = stiffness_matrix(stick, p_delta=True, g=g)  # = K + K_G (geometric_stiffness)
-    fac_p = stiffness_factor(stick, p_delta=True, g=g)
-    stable = fac_p is not None
-    fac_0 = stiffness_factor(stick) if (not stable or not p_delta) else None
-    if not stable and fac_0 is None:
+    band_p = banded_stiffness(stick, p_delta=True, g=g)  # K + K_G (geometric_stiffness)
+    stable = band_p.positive_definite
+    band_0 = banded_stiffness(stick) if (not stable or not p_delta) else None
+    if not stable and not band_0.positive_definite:  # type: ignore[union-attr]
         raise InputError(
             f"stick model of building {stick.building_name or stick.building_id!r}: the lateral stiffness is "
             "singular (some floor has no lateral system in x, y or twist); periods cannot be computed"
@@ -243,8 +243,9 @@ def modal_analysis(
             "term is not positive definite); modes reported without P-Delta"
         )
     use_pd = p_delta and stable
+    kp = stiffness_matrix(stick, p_delta=True, g=g) if stable else None  # dense, for the eigensolver
     kk = kp if use_pd else k0
-    fac = fac_p if use_pd else fac_0
+    band = band_p if use_pd else band_0
     w2, vecs = _solve(kk, mm, n_modes)
 
     def first_period(k: np.ndarray) -> float:
@@ -312,7 +313,7 @@ def modal_analysis(
     ray_d: dict[str, float] = {}
     top = n - 1
     forces = np.column_stack([g * (mm @ patterns[d]) for d in ("x", "y")])
-    sway = cho_solve(fac, forces, check_finite=False)  # both load cases with the one factor
+    sway = band.solve(forces)  # both load cases with the one factor
     for c, d in enumerate(("x", "y")):
         force, u = forces[:, c], sway[:, c]
         w2r = float(force @ u) / float(u @ mm @ u)
