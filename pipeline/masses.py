@@ -54,7 +54,7 @@ from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_shares
 from .materials import MaterialBook
-from .plan_moments import MassMoments, area_moments_many, polygons_of
+from .plan_moments import MassMoments, area_moments, area_moments_many, outline_moments, polygons_of
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -140,9 +140,27 @@ def _finite(*values: float) -> bool:
     return all(math.isfinite(v) for v in values)
 
 
+class _Shares:
+    """:func:`~swayscreen.pipeline.floors.vertical_shares` as (floor, fraction) pairs of the
+    non-zero fractions, memoised by (z0, z1): elements of one storey share their elevations,
+    and a full list per element would cost O(floors) each."""
+
+    def __init__(self, nodes: tuple[float, ...]) -> None:
+        self.nodes = nodes
+        self.memo: dict[tuple[float, float], tuple[tuple[int, float], ...]] = {}
+
+    def __call__(self, z0: float, z1: float) -> tuple[tuple[int, float], ...]:
+        key = (z0, z1)
+        got = self.memo.get(key)
+        if got is None:
+            got = self.memo[key] = tuple((i, f) for i, f in enumerate(vertical_shares(self.nodes, z0, z1)) if f)
+        return got
+
+
 def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
               warnings: list[str]) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
     nodes = layout.nodes_m
+    shares = _Shares(nodes)
     n = len(layout.floors)
     walls = [MassMoments(ref) for _ in range(n)]
     cols = [MassMoments(ref) for _ in range(n)]
@@ -176,18 +194,16 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     k = 0
     for (w, mat), mom in zip(kept_walls, wall_moms):
         m = w.footprint.area * w.height_m * mat.density_kg_m3
-        for i, f in enumerate(vertical_shares(nodes, w.base_elevation_m, w.top_elevation_m)):
-            if f:
-                walls[i].add_moments(m * f, mom)
+        for i, f in shares(w.base_elevation_m, w.top_elevation_m):
+            walls[i].add_moments(m * f, mom)
         while k < len(holes) and holes[k][0] is w:
             _, _, hole, sill, head = holes[k]
             hmom = hole_moms[k]
             k += 1
             mh = hole.area * (head - sill) * mat.density_kg_m3
             z0 = w.base_elevation_m + sill
-            for i, f in enumerate(vertical_shares(nodes, z0, w.base_elevation_m + head)):
-                if f:
-                    walls[i].add_moments(-mh * f, hmom)
+            for i, f in shares(z0, w.base_elevation_m + head):
+                walls[i].add_moments(-mh * f, hmom)
     kept_cols = []
     for c in layout.columns:
         mat = book.get(c.material, "columns")
@@ -198,18 +214,16 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
         kept_cols.append((c, mat))
     for (c, mat), mom in zip(kept_cols, area_moments_many([c.section for c, _ in kept_cols], ref)):
         m = c.section.area * c.height_m * mat.density_kg_m3
-        for i, f in enumerate(vertical_shares(nodes, c.base_elevation_m, c.top_elevation_m)):
-            if f:
-                cols[i].add_moments(m * f, mom)
+        for i, f in shares(c.base_elevation_m, c.top_elevation_m):
+            cols[i].add_moments(m * f, mom)
     for sl in layout.loose_slabs:
         mat = book.get(sl.material, "slabs")
         if sl.footprint.is_empty or sl.area_m2 <= 0:
             continue
         m = sl.area_m2 * sl.thickness_m * mat.density_kg_m3
         z = sl.top_elevation_m - sl.thickness_m / 2
-        for i, f in enumerate(vertical_shares(nodes, z - 1e-3, z + 1e-3)):
-            if f:
-                loose[i].add_area(m * f, sl.footprint)
+        for i, f in shares(z - 1e-3, z + 1e-3):
+            loose[i].add_area(m * f, sl.footprint)
     if partitions:
         warnings.append(f"{len(partitions)} non-load-bearing or partition wall(s) ({sum(partitions):,.0f} m^3) "
                         "left to the partition and facade allowances, not counted as wall mass")
@@ -257,56 +271,83 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
 
     out: list[LevelMass] = []
     borrowed: list[str] = []
+    plates: dict[tuple[bytes, ...], _Plate] = {}  # floors with the same slabs in plan share the geometry
     for i, f in enumerate(floors):
         slabs, src = floor_slabs(floors, i)
         estimated = ""
         if src is not None:
             estimated = "borrowed"
             borrowed.append(f"'{f.name}' (from '{src.name}')")
-        plate = plate_of(slabs)
+        key = tuple(sl.footprint.wkb for sl in slabs)
+        geo = plates.get(key)
+        if geo is None:
+            geo = plates[key] = _Plate(slabs, ref)
+        plate = geo.plate
         comp: dict[str, MassMoments] = {k: MassMoments(ref) for k in COMPONENTS}
-        for sl in slabs:
+        for sl, mom in zip(slabs, geo.slab_moments):
             mat = book.get(sl.material, "slabs")
             if sl.area_m2 > 0:
-                comp["slabs"].add_area(sl.area_m2 * sl.thickness_m * mat.density_kg_m3, sl.footprint)
+                comp["slabs"].add_moments(sl.area_m2 * sl.thickness_m * mat.density_kg_m3, mom)
         comp["slabs"].merge([loose[i]])
         area = plate.area if plate is not None else 0.0
         if area > 0:
-            comp["superimposed dead"].add_area(loads.superimposed_dead_kpa * kg_per_kpa * area, plate)
+            comp["superimposed dead"].add_moments(loads.superimposed_dead_kpa * kg_per_kpa * area, geo.moments)
             if not f.is_roof:
-                comp["partitions"].add_area(loads.partitions_kpa * kg_per_kpa * area, plate)
+                comp["partitions"].add_moments(loads.partitions_kpa * kg_per_kpa * area, geo.moments)
                 usage = f.usage or loads.occupancy
                 if usage not in loads.live_load_kpa:
                     warnings.append(f"floor '{f.name}': occupancy '{usage}' has no imposed load in settings; "
                                     f"'{loads.occupancy}' used")
                     usage = loads.occupancy
                 q = loads.live_load_kpa.get(usage, 0.0)
-                comp["live load"].add_area(loads.live_load_fraction * q * kg_per_kpa * area, plate)
-            closed = plate.buffer(_CLOSE_GAPS_M, join_style="mitre").buffer(-_CLOSE_GAPS_M, join_style="mitre")
-            outline = closed if not closed.is_empty else plate
-            perim = sum(p.exterior.length for p in polygons_of(outline))
+                comp["live load"].add_moments(loads.live_load_fraction * q * kg_per_kpa * area, geo.moments)
+            perim = geo.perimeter
             h_trib = layout.tributary_height_m(i)
             if perim > 0 and h_trib > 0:
-                comp["facade"].add_outline(loads.facade_kpa * kg_per_kpa * perim * h_trib, outline)
+                comp["facade"].add_moments(loads.facade_kpa * kg_per_kpa * perim * h_trib, geo.outline_moments)
         comp["walls"].merge([walls[i]])
         comp["columns"].merge([cols[i]])
-        out.append(_finish(comp, plate, estimated))
+        out.append(_finish(comp, plate, estimated, geo.gross_area_m2))
     if borrowed:
         warnings.append("no slab found at floor(s) " + ", ".join(borrowed)
                         + ": the plate and slabs of the named floor assumed")
     return out, warnings
 
 
-def _finish(comp: dict[str, MassMoments], plate: BaseGeometry | None, estimated: str) -> LevelMass:
+class _Plate:
+    """The plan geometry of one floor's plate slabs (shared by floors with the same slabs):
+    the plate, its area moments, the facade outline's perimeter and line moments, the gross
+    area, and the moments of each slab (all about ``ref``)."""
+
+    def __init__(self, slabs: Sequence[Slab], ref: tuple[float, float]) -> None:
+        self.plate = plate_of(slabs)
+        self.slab_moments = [area_moments(sl.footprint, ref) for sl in slabs]
+        plate = self.plate
+        self.moments = area_moments(plate, ref) if plate is not None else None
+        self.perimeter = 0.0
+        self.outline_moments = None
+        if plate is not None and plate.area > 0:
+            closed = plate.buffer(_CLOSE_GAPS_M, join_style="mitre").buffer(-_CLOSE_GAPS_M, join_style="mitre")
+            outline = closed if not closed.is_empty else plate
+            self.perimeter = sum(p.exterior.length for p in polygons_of(outline))
+            self.outline_moments = outline_moments(outline, ref)
+        filled = _filled(plate)
+        self.gross_area_m2 = float(filled.area) if filled is not None else 0.0
+
+
+def _finish(comp: dict[str, MassMoments], plate: BaseGeometry | None, estimated: str,
+            gross_area_m2: float | None = None) -> LevelMass:
     total = MassMoments(next(iter(comp.values())).ref)
     total.merge(comp.values())
-    filled = _filled(plate)
+    if gross_area_m2 is None:
+        filled = _filled(plate)
+        gross_area_m2 = float(filled.area) if filled is not None else 0.0
     return LevelMass(
         mass_kg=total.m, centre_m=total.centre, polar_moment_kg_m2=total.polar_moment,
         components_kg=tuple((k, c.m) for k, c in comp.items() if c.m != 0.0),
         plate=plate if plate is None or isinstance(plate, (Polygon, MultiPolygon)) else None,
         plate_area_m2=float(plate.area) if plate is not None else 0.0,
-        gross_area_m2=float(filled.area) if filled is not None else 0.0, estimated=estimated)
+        gross_area_m2=gross_area_m2, estimated=estimated)
 
 
 def _bulk(layout: FloorLayout, loads: LoadSettings, ref: tuple[float, float], warnings: list[str]) -> list[LevelMass]:

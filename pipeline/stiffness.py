@@ -297,24 +297,27 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
         fixed_base: the storey stands on the fixed base (Muto's lowest-storey formula).
         walls: union of the storey's wall footprints (supports for slab strips; columns inside are skipped).
         cache: a dict shared between calls (e.g. over the storeys of one building). Storeys
-            with the same column sections (WKB) and moduli in the same order, the same height,
-            the same ``top``, ``bottom`` and ``walls`` objects and settings reuse the springs of
-            the first such storey (the result depends on nothing else); only the ids and
-            names are filled in per call.
+            with the same column sections (WKB) and moduli in the same order, the same ``top``,
+            ``bottom`` and ``walls`` objects and settings reuse the plan work of the first such
+            storey (which columns count, sections, spans, slab strips: none depends on anything
+            else); the height-dependent springs, ids and names are computed per call.
     Returns:
         (springs, report or None when there are no columns, notes).
     """
     if cache is None:
-        core = _column_core(columns, length_m, top, bottom, fixed_base, walls, stiffness)
+        geo = _column_geometry(columns, top, bottom, fixed_base, walls, stiffness)
     else:
-        key = (tuple((c.section.wkb, float(c.e_pa)) for c in columns), float(length_m), id(top), id(bottom),
+        sections = np.empty(len(columns), dtype=object)
+        sections[:] = [c.section for c in columns]
+        key = (tuple(zip(shapely.to_wkb(sections).tolist(), (float(c.e_pa) for c in columns))), id(top), id(bottom),
                bool(fixed_base), id(walls), stiffness)
         hit = cache.get(key)
         if hit is None:
-            core = _column_core(columns, length_m, top, bottom, fixed_base, walls, stiffness)
-            cache[key] = (core, (top, bottom, walls))  # holding the objects keeps their ids unique
+            geo = _column_geometry(columns, top, bottom, fixed_base, walls, stiffness)
+            cache[key] = (geo, (top, bottom, walls))  # holding the objects keeps their ids unique
         else:
-            core = hit[0]
+            geo = hit[0]
+    core = _column_values(geo, length_m, top, fixed_base, stiffness)
     kept, n_inside, no_slab, method, values = core
     notes: list[str] = []
     if n_inside:
@@ -331,11 +334,12 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
     return springs, report, notes
 
 
-def _column_core(columns: Sequence[ColumnInput], length_m: float, top: SlabField | None, bottom: SlabField | None,
-                 fixed_base: bool, walls: BaseGeometry | None, stiffness: StiffnessSettings
-                 ) -> tuple[tuple[int, ...], int, bool, str, tuple[tuple, ...]]:
-    """The numbers of :func:`column_springs`: (indices of the columns kept, number inside walls,
-    no-slab assumption made, method, per kept column (centre, k_x, k_y, a_x, a_y, h))."""
+def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bottom: SlabField | None,
+                     fixed_base: bool, walls: BaseGeometry | None, stiffness: StiffnessSettings) -> tuple:
+    """The plan work of :func:`column_springs` (independent of the storey height): (indices of
+    the columns kept, number inside walls, no-slab assumption made, method, have_slab, per kept
+    column (x, y, E, I_xx, I_yy, slab thickness at the top or None, per axis the slab strip
+    stiffness at the top and at the bottom or None))."""
     cols = list(columns)
     index = list(range(len(cols)))
     n_inside = 0
@@ -348,8 +352,7 @@ def _column_core(columns: Sequence[ColumnInput], length_m: float, top: SlabField
             index = [i for i, c in zip(index, cols) if c not in inside]
             cols = [c for c in cols if c not in inside]
     if not cols:
-        return (), n_inside, False, "", ()
-    f_c = stiffness.column_flexure_factor
+        return (), n_inside, False, "", False, ()
     pts = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols], dtype=float)
     inertias = [column_second_moments(c.section) for c in cols]
 
@@ -377,15 +380,38 @@ def _column_core(columns: Sequence[ColumnInput], length_m: float, top: SlabField
                 if s[axis] == (None, None):
                     s[axis] = (typical, typical)
 
-    values: list[tuple] = []
+    rows: list[tuple] = []
     for i, c in enumerate(cols):
         x, y = float(pts[i, 0]), float(pts[i, 1])
+        t_top = top.at(x, y)[0] if stiffness.column_clear_height and top else None
+        ixx, iyy, _ = inertias[i]
+        strips: list[tuple[float, float | None] | None] = []
+        for axis in (0, 1):
+            if set_a is not None or not have_slab:
+                strips.append(None)
+                continue
+            across = [v for v in spans[i][1 - axis] if v is not None]
+            k_top = _strips(top, x, y, spans[i][axis], across, stiffness)
+            k_bottom = None if fixed_base else _strips(bottom, x, y, spans[i][axis], across, stiffness)
+            strips.append((k_top, k_bottom))
+        rows.append((x, y, c.e_pa, ixx, iyy, t_top, tuple(strips)))
+    return tuple(index), n_inside, no_slab, method, have_slab, tuple(rows)
+
+
+def _column_values(geo: tuple, length_m: float, top: SlabField | None, fixed_base: bool,
+                   stiffness: StiffnessSettings) -> tuple[tuple[int, ...], int, bool, str, tuple[tuple, ...]]:
+    """The springs of :func:`column_springs` for one storey height from :func:`_column_geometry`:
+    (indices kept, number inside walls, no-slab assumption made, method, per kept column
+    (centre, k_x, k_y, a_x, a_y, h))."""
+    index, n_inside, no_slab, method, have_slab, rows = geo
+    f_c = stiffness.column_flexure_factor
+    set_a = stiffness.column_restraint_factor
+    values: list[tuple] = []
+    for x, y, e_pa, ixx, iyy, t_top, strips in rows:
         h = length_m
-        if stiffness.column_clear_height and top:
-            t_top, _ = top.at(x, y)
+        if t_top is not None:
             if 0 < t_top < 0.5 * length_m:
                 h = length_m - t_top
-        ixx, iyy, _ = inertias[i]
         a_dir = []
         for axis, i_bend in ((0, iyy), (1, ixx)):
             if set_a is not None:
@@ -394,18 +420,17 @@ def _column_core(columns: Sequence[ColumnInput], length_m: float, top: SlabField
             if not have_slab:
                 a_dir.append(NO_SLAB_RESTRAINT)
                 continue
-            k_col = c.e_pa * f_c * i_bend / h
-            across = [v for v in spans[i][1 - axis] if v is not None]
-            k_top = _strips(top, x, y, spans[i][axis], across, stiffness)
+            k_col = e_pa * f_c * i_bend / h
+            k_top, k_bottom = strips[axis]
             if fixed_base:
                 k_bar = k_top / k_col
             else:
-                k_bar = (k_top + _strips(bottom, x, y, spans[i][axis], across, stiffness)) / (2.0 * k_col)
+                k_bar = (k_top + k_bottom) / (2.0 * k_col)
             a_dir.append(muto_factor(k_bar, fixed_base=fixed_base))
-        k_x = a_dir[0] * 12.0 * c.e_pa * f_c * iyy / h ** 3
-        k_y = a_dir[1] * 12.0 * c.e_pa * f_c * ixx / h ** 3
+        k_x = a_dir[0] * 12.0 * e_pa * f_c * iyy / h ** 3
+        k_y = a_dir[1] * 12.0 * e_pa * f_c * ixx / h ** 3
         values.append(((x, y), k_x, k_y, a_dir[0], a_dir[1], h))
-    return tuple(index), n_inside, no_slab, method, tuple(values)
+    return index, n_inside, no_slab, method, tuple(values)
 
 
 def frame_segment(springs: Sequence[ColumnSpring], level_index: int, length_m: float,
