@@ -132,11 +132,11 @@ class SystemSection:
 def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
     """Axis end points and thickness; from the footprint's minimum rotated rectangle when
     the axis or thickness is missing. None when neither gives a usable wall."""
-    p0 = np.asarray(w.axis_m[0], dtype=float)
-    p1 = np.asarray(w.axis_m[1], dtype=float)
+    (x0, y0), (x1, y1) = ((float(v) for v in q) for q in w.axis_m)
     t = float(w.thickness_m)
-    if np.all(np.isfinite(p0)) and np.all(np.isfinite(p1)) and math.dist(p0, p1) > 1e-6 and t > 0 and math.isfinite(t):
-        return p0, p1, t
+    if (math.isfinite(x0) and math.isfinite(y0) and math.isfinite(x1) and math.isfinite(y1)
+            and math.dist((x0, y0), (x1, y1)) > 1e-6 and t > 0 and math.isfinite(t)):
+        return np.array([x0, y0]), np.array([x1, y1]), t
     fp = w.footprint
     if fp is None or fp.is_empty or not fp.area > 0:
         return None
@@ -344,13 +344,15 @@ def _door_cuts(w: Wall, length: float, stiffness: StiffnessSettings) -> list[tup
     return cuts
 
 
-def _wall_signature(w: Wall, line: tuple[np.ndarray, np.ndarray, float], slits: tuple[float, ...]) -> tuple:
+def _wall_signature(w: Wall, line: tuple[np.ndarray, np.ndarray, float], slits: tuple[float, ...],
+                    wkb: bytes | None = None) -> tuple:
     """Everything of a wall that its system's section depends on: axis, thickness, footprint
-    (WKB bytes) and the cut positions. Walls with equal signatures give equal sections."""
+    (WKB bytes, ``wkb`` when already known) and the cut positions. Walls with equal signatures
+    give equal sections."""
     p0, p1, t = line
-    fp = w.footprint
-    return (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t),
-            fp.wkb if fp is not None else b"", tuple(float(c) for c in slits))
+    if wkb is None:
+        wkb = w.footprint.wkb if w.footprint is not None else b""
+    return (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t), wkb, tuple(float(c) for c in slits))
 
 
 def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[float, ...]], mode: str
@@ -394,8 +396,11 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
     if memo is None:
         geo = _system_geometry(walls, lines, slits, mode)
     else:
-        key = (mode, tuple(sorted(_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()))  # type: ignore[arg-type]
-                                  for w in walls)))
+        prints = np.empty(len(walls), dtype=object)
+        prints[:] = [w.footprint for w in walls]
+        wkbs = [b if b is not None else b"" for b in shapely.to_wkb(prints).tolist()]
+        key = (mode, tuple(sorted(_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
+                                  for w, wkb in zip(walls, wkbs))))
         geo = memo.get(key)
         if geo is None:
             geo = memo[key] = _system_geometry(walls, lines, slits, mode)
@@ -570,6 +575,7 @@ def find_systems_by_storey(
     history: dict[str, tuple[int, SystemSection]] = {}  # id -> (storey index, last system)
     ref: dict[str, tuple[bool, int, SystemSection]] = {}  # id -> (above grade, storey index, system)
     walls_of: dict[str, list[str]] = {}
+    walls_seen: dict[str, set[str]] = {}  # the same ids as a set (membership in constant time)
     first_seen: list[str] = []
     wall_index: dict[int, dict[str, Wall]] = {}
     per_storey_raw: list[tuple[list[SystemSection], list[str], list[Wall]]] = []
@@ -662,7 +668,9 @@ def find_systems_by_storey(
                 w = wall_index[k - 1].get(gid)
                 if w is None:
                     continue
-                ukey = (_wall_signature(w, line, ()) if (line := _wall_line(w)) is not None else gid, id(new.plan))
+                # _uncovered depends on the wall's centre line only
+                line = _wall_line(w)
+                ukey = ((*line[0].tolist(), *line[1].tolist(), line[2]) if line is not None else gid, id(new.plan))
                 got = uncovered_memo.get(ukey)
                 if got is None:
                     got = uncovered_memo[ukey] = _uncovered(w, new.plan, JOIN_TOL_M)
@@ -690,8 +698,13 @@ def find_systems_by_storey(
             history[s.system_id] = (k, s)
             if s.system_id not in walls_of:
                 walls_of[s.system_id] = []
+                walls_seen[s.system_id] = set()
                 first_seen.append(s.system_id)
-            walls_of[s.system_id] += [g for g in s.wall_ids if g not in walls_of[s.system_id]]
+            seen_here = walls_seen[s.system_id]
+            for g in s.wall_ids:
+                if g not in seen_here:
+                    seen_here.add(g)
+                    walls_of[s.system_id].append(g)
             if s.system_id not in ref or (st.above_grade and not ref[s.system_id][0]):
                 ref[s.system_id] = (st.above_grade, k, s)
         by_storey[st.global_id] = renamed
