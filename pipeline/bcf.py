@@ -40,7 +40,7 @@ _NAMESPACE = uuid.uuid5(uuid.NAMESPACE_URL, "urn:swayscreen:bcf-topics")
 # IfcGloballyUniqueId: 22 characters of the IFC base-64 alphabet (ISO 16739-1; BCF visinfo.xsd IfcGuid)
 _IFC_GUID = re.compile(r"[0-9A-Za-z_$]{22}")
 # Characters XML 1.0 cannot carry (section 2.2); replaced by U+FFFD rather than failing.
-_NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+_NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")  # XML 1.0 Char; lone surrogates
 
 
 @dataclass(frozen=True)

@@ -256,7 +256,7 @@ def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[s
         for text, final in ((summary_text, paths["summary"]), (report_html, paths["report"])):
             tmp = _stage_name(final)
             staged.append((tmp, final))
-            tmp.write_bytes(text.encode("utf-8"))
+            tmp.write_bytes(text.encode("utf-8", "replace"))  # names from damaged files may hold lone surrogates
         if topics:
             tmp = _stage_name(bcf_path)
             staged.append((tmp, bcf_path))

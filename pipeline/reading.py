@@ -183,6 +183,7 @@ def _log_findings(p: Path, log: str) -> tuple[list[str], set[str]]:
     warnings = []
     if errors:
         msg, offset = errors[0]
+        msg = re.sub("[\ud800-\udfff]", "\ufffd", msg)  # undecodable bytes of the file, as the log gives them
         where = _instance_at(p, int(offset)) if offset else ""
         warnings.append(f"{p}: the IFC parser could not read {len(errors)} value(s) and left them out (first: "
                         f"{msg.strip()[:120]}{' in ' + where if where else ''}); the elements using them may be "

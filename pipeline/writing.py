@@ -398,7 +398,8 @@ def _schema(model):
 
 
 def _unit_scale(model, unit_type: str | None) -> float:
-    """Factor taking a value in the model's project unit to SI (1.0 when not assigned)."""
+    """Factor taking a value in the model's project unit to SI (1.0 when not assigned, or when
+    the unit's definition is damaged and the library cannot evaluate it)."""
     if unit_type is None:
         return 1.0
     import ifcopenshell.util.unit
@@ -407,6 +408,8 @@ def _unit_scale(model, unit_type: str | None) -> float:
         scale = float(ifcopenshell.util.unit.calculate_unit_scale(model, unit_type))
     except ValueError:  # unit type not in this schema's enumerations
         return 1.0
+    except Exception:  # noqa: BLE001 - damaged unit entities make the library raise anything
+        return float("nan")
     return scale if math.isfinite(scale) and scale > 0 else 1.0
 
 
@@ -529,7 +532,11 @@ class _Values:
 
     def scale(self, unit_type: str | None) -> float:
         if unit_type not in self.scales:
-            self.scales[unit_type] = _unit_scale(self.model, unit_type)
+            f = _unit_scale(self.model, unit_type)
+            if not math.isfinite(f):
+                self.fallbacks.append(f"{unit_type}: the model's unit cannot be read; values written in SI")
+                f = 1.0
+            self.scales[unit_type] = f
         return self.scales[unit_type]
 
     def stored(self, prop: Prop, where: str) -> tuple[str, Value, str]:

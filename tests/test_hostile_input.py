@@ -17,7 +17,7 @@ Rules checked come from outside the project:
 
 Property-based parts (hypothesis, derandomized): random small buildings written by the
 ``ifc_builder`` fixture, and random corruptions (byte flips, deleted lines, swapped
-references, truncations) of the sample files.
+references, truncations, REALs replaced by hostile values) of the sample files.
 """
 from __future__ import annotations
 
@@ -680,7 +680,7 @@ def buildings(draw):
     return draw(st.sampled_from(["IFC2X3", "IFC4", "IFC4X3"])), draw(st.sampled_from(["m", "mm", "ft"])), storeys
 
 
-@settings(max_examples=8, **_HYPO)
+@settings(max_examples=12, **_HYPO)
 @given(spec=buildings())
 def test_random_buildings_screen_cleanly(ifc_builder, tmp_path_factory, capsys, spec):
     schema, unit, storeys = spec
@@ -715,6 +715,8 @@ def _corruption_sources() -> list[Path]:
 
 
 _REF = re.compile(rb"#\d+")
+_REAL = re.compile(rb"(?<=[(,])-?\d+\.\d*(?:E[-+]?\d+)?(?=[,)])")
+_HOSTILE = (b"0.", b"-1.", b"-0.", b"1.E300", b"-1.E300", b"-inf", b"1.E-300", b"1.E15", b"1.E8")
 
 
 def corrupt(data: bytes, kind: str, rnd) -> bytes:
@@ -726,6 +728,11 @@ def corrupt(data: bytes, kind: str, rnd) -> bytes:
         return bytes(buf)
     if kind == "truncate":
         return data[: rnd.randrange(len(data))]
+    if kind == "hostile numbers":  # REALs replaced by values no building has (-inf is accepted by the parser)
+        reals = list(_REAL.finditer(data))
+        for m in sorted(rnd.sample(reals, min(rnd.randint(1, 12), len(reals))), key=lambda m: -m.start()):
+            data = data[: m.start()] + rnd.choice(_HOSTILE) + data[m.end():]
+        return data
     lines = data.split(b"\n")
     body = [i for i, ln in enumerate(lines) if ln.startswith(b"#")]
     if kind == "delete lines":
@@ -745,8 +752,8 @@ def corrupt(data: bytes, kind: str, rnd) -> bytes:
     raise AssertionError(kind)
 
 
-@pytest.mark.parametrize("kind", ["flip", "delete lines", "swap references", "truncate"])
-@settings(max_examples=5, **_HYPO)
+@pytest.mark.parametrize("kind", ["flip", "delete lines", "swap references", "truncate", "hostile numbers"])
+@settings(max_examples=6, **_HYPO)
 @given(data=st.data())
 def test_corrupted_samples_screen_cleanly(tmp_path_factory, capsys, kind, data):
     sources = _corruption_sources()
@@ -788,3 +795,22 @@ def test_damaged_bodies_never_reach_the_geometry_engine(ifc_builder, tmp_path, c
         assert r.warned("read as a mesh projected to plan", col.GlobalId)
     else:
         assert r.warned(col.GlobalId, "NaN, infinite or absurd number", "for the geometry engine")
+
+
+def test_undecodable_bytes_reach_every_output(tmp_path, capsys):
+    """A byte flipped to 0xCD inside an entity keyword (ISO 10303-21 is ASCII): the parser drops
+    the instance and logs the keyword with the undecodable byte; the warning passes it on, and
+    the console, report, summary and BCF are still written, never an encoding error."""
+    data = (SAMPLES / "courtyard_12_mm.ifc").read_bytes()
+    at = data.index(b"IFCLOCALPLACEMENT(", data.index(b"IFCWALL("))
+    data = data[:at] + b"IFCLOCAL\xcdLACEMENT(" + data[at + len(b"IFCLOCALPLACEMENT("):]
+    path = tmp_path / "bytes.ifc"
+    path.write_bytes(data)
+    strict = tmp_path / "strict.toml"  # flagged, so a BCF archive is written too (as in test_outputs.py)
+    strict.write_text("[drift]\noverall_limit_ratio = 5000.0\nstorey_limit_ratio = 5000.0\n")
+    r = screen(capsys, path, "--settings", strict, out=tmp_path / "out")
+    assert r.code == 1 and r.data["status"] == "flagged"
+    assert r.warned("the IFC parser could not read", "IFCLOCAL\ufffdLACEMENT")
+    assert "IFCLOCAL\ufffdLACEMENT" in (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
+    with zipfile.ZipFile(tmp_path / "out" / "issues.bcfzip") as z:
+        assert z.testzip() is None
