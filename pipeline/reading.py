@@ -961,7 +961,7 @@ class _Reader:
             els, kind, p = items[i]
             why = implausible_extent(*box[i].tolist()) or "extent not a finite number"
             kw = p.kwargs
-            self.no_geometry[kind[:-1]].append(f"{p.cls.__name__} {kw['global_id']}"
+            self.no_geometry[kind[:-1]].append(f"Ifc{p.cls.__name__} {kw['global_id']}"
                                                + (f" '{kw['name']}'" if kw.get("name") else "") + f" (body {why})")
             els[kind].remove(p)
 

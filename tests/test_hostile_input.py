@@ -267,7 +267,7 @@ def test_absurd_but_finite_sizes_and_places(ifc_builder, tmp_path, capsys):
     r = screen(capsys, b.write(tmp_path / "absurd.ifc"))
     assert r.code in (0, 1)
     assert r.warned(long_wall.GlobalId, "extrusion depth 5e+04 m is not a positive length up to 10000 m")
-    assert r.warned(sky.GlobalId, "elevations outside +-10000 m")
+    assert r.warned(f"IfcSlab {sky.GlobalId} 'sky' (body elevations outside +-10000 m)")
     assert r.warned(far.GlobalId, "is out of range")  # its placement lies 1e9 m out
 
 
