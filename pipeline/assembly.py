@@ -124,6 +124,7 @@ __all__ = [
     "assembly_notes",
     "is_positive_definite",
     "cholesky_or_none",
+    "is_stiffness_of",
     "stiffness_factor",
 ]
 
@@ -430,24 +431,27 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     # floor above (3), slopes above (2)]; a freedom the element lacks (no floor or slopes below
     # at a fixed base) maps to a spare index ``nloc`` with a zero block, dropped afterwards.
     n_el = len(run)
+    lev = np.array([s.level_index for s in run], dtype=np.intp)
+    amap = np.zeros((n_el, 2, 3))  # _plan_map of every element
+    amap[:, 0, 0] = amap[:, 1, 1] = 1.0
+    amap[:, 0, 2] = -(np.array([float(s.centre_m[1]) for s in run]) - float(origin[1]))
+    amap[:, 1, 2] = np.array([float(s.centre_m[0]) for s in run]) - float(origin[0])
+    fpos_of = np.full(run[-1].level_index + 2, -1, dtype=np.intp)
+    fpos_of[floors] = np.arange(len(floors))
+    bpos_of = np.array([bpos.get(node, -1) for node in range(nodes)], dtype=np.intp)
     gm = np.zeros((n_el, 8, 10))
     cols = np.full((n_el, 10), nloc, dtype=np.intp)
-    eye2 = np.eye(2)
-    for e, s in enumerate(run):
-        amap = _plan_map(s.centre_m, origin)
-        i = s.level_index
-        if i - 1 >= 0:
-            p = 3 * fpos[i - 1]
-            gm[e, 0:2, 0:3] = amap
-            cols[e, 0:3] = (p, p + 1, p + 2)
-        if e in bpos:
-            gm[e, 2:4, 3:5] = eye2
-            cols[e, 3:5] = (bpos[e], bpos[e] + 1)
-        p = 3 * fpos[i]
-        gm[e, 4:6, 5:8] = amap
-        cols[e, 5:8] = (p, p + 1, p + 2)
-        gm[e, 6:8, 8:10] = eye2
-        cols[e, 8:10] = (bpos[e + 1], bpos[e + 1] + 1)
+    three, two = np.arange(3), np.arange(2)
+    below = lev - 1 >= 0
+    gm[below, 0:2, 0:3] = amap[below]
+    cols[below, 0:3] = 3 * fpos_of[lev[below] - 1][:, None] + three
+    bottom = bpos_of[:-1] >= 0
+    gm[bottom, 2:4, 3:5] = np.eye(2)
+    cols[bottom, 3:5] = bpos_of[:-1][bottom][:, None] + two
+    gm[:, 4:6, 5:8] = amap
+    cols[:, 5:8] = 3 * fpos_of[lev][:, None] + three
+    gm[:, 6:8, 8:10] = np.eye(2)
+    cols[:, 8:10] = bpos_of[1:][:, None] + two
     kes = np.stack([_beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
                     for s in run])
     contrib = np.matmul(np.matmul(gm.transpose(0, 2, 1), kes), gm)
@@ -464,8 +468,8 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     for k in range(bw + 1):
         ab[bw - k, k:] = np.diagonal(kbb, k)
     kc = kqq - kqb @ solveh_banded(ab, kqb.T)
-    idx = np.array([3 * f + c for f in floors for c in range(3)])
-    kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
+    lo, hi = 3 * floors[0], 3 * floors[-1] + 3  # the run's floors are consecutive
+    kg[lo:hi, lo:hi] += 0.5 * (kc + kc.T)
 
 
 def _add_warping_run(kg: np.ndarray, run: list[Segment]) -> None:
@@ -548,6 +552,17 @@ def stiffness_matrix(stick: StickModel, *, p_delta: bool = False, g: float = G_S
     returns a fresh copy.
     """
     return _stiffness(stick, p_delta, g).copy()
+
+
+def is_stiffness_of(stick: StickModel, matrix: np.ndarray, *, p_delta: bool = False, g: float = G_STANDARD) -> bool:
+    """True when ``matrix`` equals the (memoised) :func:`stiffness_matrix` of ``stick`` with
+    these arguments, so that the stick's other forms of it (banded, factorised) may stand in
+    for it; False when it differs or was never assembled for this model."""
+    entry = _MEMO.get(id(stick))
+    if entry is None or entry[0]() is not stick:
+        return False
+    own = entry[1].get(("k", True, float(g)) if p_delta else ("k", False))
+    return own is not None and own.shape == np.shape(matrix) and bool(np.array_equal(own, matrix))
 
 
 def stiffness_factor(stick: StickModel, *, p_delta: bool = False, g: float = G_STANDARD

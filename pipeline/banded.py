@@ -21,6 +21,7 @@ warping run with a node there.
 """
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -33,7 +34,6 @@ from .assembly import (
     _check_stick,
     _floor_mass_blocks,
     _memoised,
-    _plan_map,
     _storey_blocks,
     _torsion_element,
     cantilever_runs,
@@ -42,7 +42,7 @@ from .assembly import (
 )
 from .stick import StickModel
 
-__all__ = ["BandedStiffness", "banded_stiffness", "condensed_solve"]
+__all__ = ["BandedStiffness", "banded_stiffness", "condensed_solve", "count_modes_below"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -83,98 +83,121 @@ class BandedStiffness:
         return cho_solve_banded((self.factor, False), rhs, check_finite=False)[self.floor_dofs]
 
 
-def _numbering(stick: StickModel, runs: Sequence, wruns: Sequence) -> tuple[np.ndarray, dict, dict]:
-    """First index of each floor's freedoms, and the global index of every slope pair and
-    rate of twist: {(run, node): index}."""
+def _numbering(stick: StickModel, runs: Sequence, wruns: Sequence
+               ) -> tuple[np.ndarray, list[np.ndarray], list[np.ndarray]]:
+    """First index of each floor's freedoms (N + 1 entries, the last the total), and per
+    cantilever run the index of the first slope of each node, per warping run the index of
+    the rate of twist of each node (-1 where the base restrains it)."""
     n = stick.n_levels
     extra = [0] * n
-    slope_slot: dict[tuple[int, int], tuple[int, int]] = {}
-    for r, (_sid, run) in enumerate(runs):
+    slope_slot: list[list[tuple[int, int] | None]] = []
+    for _sid, run in runs:
         a = run[0].level_index
+        row: list[tuple[int, int] | None] = []
         for node in range(len(run) + 1):
             if node == 0 and a == 0:
-                continue  # fixed at the base
+                row.append(None)  # fixed at the base
+                continue
             lvl = a - 1 + node
-            slope_slot[(r, node)] = (lvl, extra[lvl])
+            row.append((lvl, extra[lvl]))
             extra[lvl] += 2
-    warp_slot: dict[tuple[int, int], tuple[int, int]] = {}
-    for w, wr in enumerate(wruns):
+        slope_slot.append(row)
+    warp_slot: list[list[tuple[int, int] | None]] = []
+    for wr in wruns:
         a = wr[0].level_index
+        row = []
         for node in range(len(wr) + 1):
             if node == 0 and a == 0:
-                continue  # warping restrained at the base
+                row.append(None)  # warping restrained at the base
+                continue
             lvl = a - 1 + node
-            warp_slot[(w, node)] = (lvl, extra[lvl])
+            row.append((lvl, extra[lvl]))
             extra[lvl] += 1
+        warp_slot.append(row)
     start = np.concatenate([[0], np.cumsum([3 + e for e in extra])]).astype(np.intp)
-    slopes = {k: int(start[lvl] + 3 + s) for k, (lvl, s) in slope_slot.items()}
-    warps = {k: int(start[lvl] + 3 + s) for k, (lvl, s) in warp_slot.items()}
-    return start, slopes, warps
+
+    def index(rows: list[list[tuple[int, int] | None]]) -> list[np.ndarray]:
+        return [np.array([-1 if q is None else start[q[0]] + 3 + q[1] for q in row], dtype=np.intp) for row in rows]
+
+    return start, index(slope_slot), index(warp_slot)
 
 
-def _assemble(stick: StickModel, p_delta: bool, g: float) -> BandedStiffness:
+def _base_entries(stick: StickModel) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(floor starts, rows, columns, values) of the upper triangle of the stiffness without
+    P-Delta: cantilever elements, Vlasov torsion elements, rods and frames."""
     _check_stick(stick)
     n = stick.n_levels
     runs = cantilever_runs(stick)
     wruns = [wr for _sid, run in runs for wr in warping_runs(run)]
     start, slopes, warps = _numbering(stick, runs, wruns)
-    n_full = int(start[-1])
-
-    def floor_dof(dense: np.ndarray) -> np.ndarray:
-        """Global index of dense floor freedom 3f + c (-1 stays -1)."""
-        dense = np.asarray(dense, dtype=np.intp)
-        out = start[np.clip(dense // 3, 0, n - 1)] + dense % 3
-        return np.where(dense < 0, -1, out)
-
     rows: list[np.ndarray] = []
     cols: list[np.ndarray] = []
     vals: list[np.ndarray] = []
-
-    def add(index: np.ndarray, blocks: np.ndarray) -> None:
-        """Blocks (E, k, k) on global freedoms ``index`` (E, k); -1 marks a freedom the element lacks."""
-        r = np.broadcast_to(index[:, :, None], blocks.shape)
-        c = np.broadcast_to(index[:, None, :], blocks.shape)
-        keep = (r >= 0) & (c >= 0) & (r <= c)
-        rows.append(r[keep])
-        cols.append(c[keep])
-        vals.append(blocks[keep])
-
-    origin = stick.origin_m
-    for r_no, (_sid, run) in enumerate(runs):
-        a = run[0].level_index
-        gm = np.zeros((len(run), 8, 10))
-        idx = np.full((len(run), 10), -1, dtype=np.intp)
-        eye2 = np.eye(2)
-        for e, s in enumerate(run):
-            amap = _plan_map(s.centre_m, origin)
-            i = s.level_index
-            if i - 1 >= 0:
-                gm[e, 0:2, 0:3] = amap
-                idx[e, 0:3] = start[i - 1] + np.arange(3)
-            if (r_no, e) in slopes:
-                gm[e, 2:4, 3:5] = eye2
-                idx[e, 3:5] = slopes[(r_no, e)] + np.arange(2)
-            gm[e, 4:6, 5:8] = amap
-            idx[e, 5:8] = start[i] + np.arange(3)
-            gm[e, 6:8, 8:10] = eye2
-            idx[e, 8:10] = slopes[(r_no, e + 1)] + np.arange(2)
+    three, two = np.arange(3), np.arange(2)
+    ox, oy = float(stick.origin_m[0]), float(stick.origin_m[1])
+    for (_sid, run), slope in zip(runs, slopes):
+        n_el = len(run)
+        lev = np.array([s.level_index for s in run], dtype=np.intp)
+        amap = np.zeros((n_el, 2, 3))  # element end translation from the floor freedoms (_plan_map)
+        amap[:, 0, 0] = amap[:, 1, 1] = 1.0
+        amap[:, 0, 2] = -(np.array([float(s.centre_m[1]) for s in run]) - oy)
+        amap[:, 1, 2] = np.array([float(s.centre_m[0]) for s in run]) - ox
+        gm = np.zeros((n_el, 8, 10))  # [floor below, slopes below, floor above, slopes above]
+        idx = np.full((n_el, 10), -1, dtype=np.intp)
+        below = lev >= 1
+        gm[below, 0:2, 0:3] = amap[below]
+        idx[below, 0:3] = start[lev[below] - 1][:, None] + three
+        pinned = slope[:-1] >= 0
+        gm[pinned, 2:4, 3:5] = np.eye(2)
+        idx[pinned, 3:5] = slope[:-1][pinned][:, None] + two
+        gm[:, 4:6, 5:8] = amap
+        idx[:, 5:8] = start[lev][:, None] + three
+        gm[:, 6:8, 8:10] = np.eye(2)
+        idx[:, 8:10] = slope[1:][:, None] + two
         kes = np.stack([_beam_element(s.ei_xx_nm2, s.ei_yy_nm2, s.ei_xy_nm2, s.ga_x_n, s.ga_y_n, s.length_m)
                         for s in run])
-        add(idx, np.matmul(np.matmul(gm.transpose(0, 2, 1), kes), gm))
-        del a
-    for w_no, wr in enumerate(wruns):
+        _upper(idx, np.matmul(np.matmul(gm.transpose(0, 2, 1), kes), gm), rows, cols, vals)
+    for wr, warp in zip(wruns, warps):
         a = wr[0].level_index
-        idx = np.full((len(wr), 4), -1, dtype=np.intp)
-        for e in range(len(wr)):
-            for k, node in ((0, e), (2, e + 1)):
-                if not (node == 0 and a == 0):
-                    idx[e, k] = start[a - 1 + node] + 2
-                    idx[e, k + 1] = warps[(w_no, node)]
+        nodes = np.arange(len(wr) + 1)
+        twist = np.where(warp >= 0, start[np.maximum(a - 1 + nodes, 0)] + 2, -1)
+        idx = np.column_stack([twist[:-1], warp[:-1], twist[1:], warp[1:]])
         kes = np.stack([_torsion_element(s.ecw_nm4, s.gj_nm2, s.length_m) for s in wr])
-        add(idx, kes)
+        _upper(idx, kes, rows, cols, vals)
     at, blocks = _storey_blocks(stick)
     if len(blocks):
-        add(floor_dof(np.where(at >= 3 * n, -1, at)), blocks)
+        _upper(_floor_dof(start, n, np.where(at >= 3 * n, -1, at)), blocks, rows, cols, vals)
+    return start, np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
+
+
+def _floor_dof(start: np.ndarray, n: int, dense: np.ndarray) -> np.ndarray:
+    """Global index of the dense floor freedom 3f + c (-1 stays -1)."""
+    dense = np.asarray(dense, dtype=np.intp)
+    return np.where(dense < 0, -1, start[np.clip(dense // 3, 0, n - 1)] + dense % 3)
+
+
+def _upper(index: np.ndarray, blocks: np.ndarray, rows: list, cols: list, vals: list) -> None:
+    """Collect the upper-triangle entries of blocks (E, k, k) on global freedoms ``index`` (E, k);
+    -1 marks a freedom the element lacks."""
+    r = np.broadcast_to(index[:, :, None], blocks.shape)
+    c = np.broadcast_to(index[:, None, :], blocks.shape)
+    keep = (r >= 0) & (c >= 0) & (r <= c)
+    rows.append(r[keep])
+    cols.append(c[keep])
+    vals.append(blocks[keep])
+
+
+def _band(n_full: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> np.ndarray:
+    u = int(np.max(cols - rows)) if len(rows) else 0
+    ab = np.zeros((u + 1, n_full))
+    np.add.at(ab.reshape(-1), (u + rows - cols) * n_full + cols, vals)
+    return ab
+
+
+def _assemble(stick: StickModel, p_delta: bool, g: float) -> BandedStiffness:
+    n = stick.n_levels
+    start, rows, cols, vals = _memoised(stick, ("banded entries",), lambda: _base_entries(stick))
+    n_full = int(start[-1])
     if p_delta:
         geometric_stiffness_checks(stick, g)
         fm = _floor_mass_blocks(stick)
@@ -186,13 +209,12 @@ def _assemble(stick: StickModel, p_delta: bool, g: float) -> BandedStiffness:
                                 + np.arange(3)], axis=1)
         dense[lower < 0, :3] = -1
         pd = np.concatenate([np.concatenate([-blk, blk], axis=2), np.concatenate([blk, -blk], axis=2)], axis=1)
-        add(floor_dof(dense), pd)
-    r = np.concatenate(rows)
-    c = np.concatenate(cols)
-    v = np.concatenate(vals)
-    u = int(np.max(c - r)) if len(r) else 0
-    ab = np.zeros((u + 1, n_full))
-    np.add.at(ab.reshape(-1), (u + r - c) * n_full + c, v)
+        extra_r: list[np.ndarray] = []
+        extra_c: list[np.ndarray] = []
+        extra_v: list[np.ndarray] = []
+        _upper(_floor_dof(start, n, dense), pd, extra_r, extra_c, extra_v)
+        rows, cols, vals = (np.concatenate([a, *b]) for a, b in ((rows, extra_r), (cols, extra_c), (vals, extra_v)))
+    ab = _band(n_full, rows, cols, vals)
     ab.setflags(write=False)
     try:
         factor = cholesky_banded(ab, lower=False, check_finite=False)
@@ -221,3 +243,42 @@ def condensed_solve(stick: StickModel, loads: np.ndarray, *, p_delta: bool = Fal
     """Floor displacements under floor loads, K^-1 P with K = ``stiffness_matrix(stick, p_delta, g)``,
     in time linear in the floors. Raises LinAlgError when K is not positive definite."""
     return banded_stiffness(stick, p_delta=p_delta, g=g).solve(loads)
+
+
+def count_modes_below(stick: StickModel, band: BandedStiffness, omega2: float) -> int | None:
+    """How many eigenvalues of K phi = w^2 M phi (the condensed stiffness of ``band``, the
+    floor masses of ``stick``) lie below ``omega2``: a Sturm sequence count. None when a
+    pivot vanishes (``omega2`` on an eigenvalue, to round-off).
+
+    By Sylvester's law of inertia and its additivity over a Schur complement (E. V.
+    Haynsworth, 1968; from memory), the number of negative eigenvalues of
+    K_full - w^2 M_full (masses on the floor freedoms only) is that of the rotation block
+    (none: positive definite) plus that of K_condensed - w^2 M, the count wanted; it equals
+    the number of negative pivots of an L D L^T factorisation of the band (the classical
+    Sturm sequence check of subspace iteration; K.-J. Bathe, *Finite Element Procedures*,
+    1996, section 11.6.4, from memory). Time linear in the floors.
+    """
+    u = band.ab.shape[0] - 1
+    n = band.n_full
+    blocks = _floor_mass_blocks(stick)
+    f = band.floor_dofs.reshape(-1, 3)
+    w = np.zeros((u + 1, n + u))
+    w[:, :n] = band.ab
+    w[u, n:] = 1.0  # identity padding keeps the sliding window inside the array
+    for i in range(3):
+        for j in range(i, 3):  # upper triangle of each floor's 3 x 3 mass block
+            if u + i - j >= 0:
+                w[u + i - j, f[:, j]] -= omega2 * blocks[:, i, j]
+    a_off, b_off = np.triu_indices(u, 0)  # window offsets 0 <= a <= b < u: entry (j+1+a, j+1+b)
+    rows, cols = u + a_off - b_off, 1 + b_off
+    lrow, lcol = u - 1 - np.arange(u), 1 + np.arange(u)  # A[j, j+1+a] is w[u-1-a, j+1+a]
+    negative = 0
+    for j in range(n):
+        d = w[u, j]
+        if d == 0.0 or not math.isfinite(d):
+            return None
+        if d < 0.0:
+            negative += 1
+        l = w[lrow, j + lcol] / d
+        w[rows, j + cols] -= d * l[a_off] * l[b_off]
+    return negative

@@ -229,22 +229,22 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
     ``stiffness``: the (3n, 3n) matrix, a function of the stick model giving it, or None to use
     :func:`swayscreen.pipeline.assembly.stiffness_matrix` (with ``p_delta`` from the settings).
     """
-    from swayscreen.pipeline.assembly import cholesky_or_none, stiffness_matrix
+    from swayscreen.pipeline.assembly import cholesky_or_none, is_stiffness_of, stiffness_matrix
     from swayscreen.pipeline.banded import banded_stiffness
 
-    band = None
     if stiffness is None:
-        band = banded_stiffness(stick, p_delta=ds.p_delta)  # factorised once per stick (shared)
-        k_mat = None if band.positive_definite else stiffness_matrix(stick, p_delta=ds.p_delta)
+        k_mat = stiffness_matrix(stick, p_delta=ds.p_delta)  # memoised per stick
     elif callable(stiffness):
         k_mat = stiffness(stick)
     else:
         k_mat = stiffness
-    if k_mat is not None:
-        k_mat = np.asarray(k_mat, dtype=float)
-        if k_mat.shape != (3 * stick.n_levels, 3 * stick.n_levels):
-            raise InputError(f"building {stick.building_name!r}: stiffness matrix of shape {k_mat.shape}, "
-                             f"expected {(3 * stick.n_levels,) * 2}")
+    k_mat = np.asarray(k_mat, dtype=float)
+    if k_mat.shape != (3 * stick.n_levels, 3 * stick.n_levels):
+        raise InputError(f"building {stick.building_name!r}: stiffness matrix of shape {k_mat.shape}, "
+                         f"expected {(3 * stick.n_levels,) * 2}")
+    # the stick's own matrix is solved through its banded form (factorised once per stick,
+    # shared with the modal analysis; linear in the floors); any other matrix directly
+    band = banded_stiffness(stick, p_delta=ds.p_delta) if is_stiffness_of(stick, k_mat, p_delta=ds.p_delta) else None
     terrain = terrain_from_settings(ws)
     rp = ws.serviceability_return_period_yr
     rows = []

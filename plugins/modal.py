@@ -38,11 +38,12 @@ from scipy.linalg import eigh
 
 from swayscreen.pipeline.assembly import (
     G_STANDARD,
+    _floor_mass_blocks,
     assembly_notes,
     mass_matrix,
     stiffness_matrix,
 )
-from swayscreen.pipeline.banded import banded_stiffness
+from swayscreen.pipeline.banded import BandedStiffness, banded_stiffness, count_modes_below
 from swayscreen.pipeline.errors import InputError
 from swayscreen.pipeline.plugin_api import BasicPlugin, Context
 from swayscreen.pipeline.settings import setting
@@ -207,6 +208,73 @@ def _solve(k: np.ndarray, m: np.ndarray, n_modes: int) -> tuple[np.ndarray, np.n
     return w2, vecs
 
 
+DENSE_MAX_DOF = 240
+"""Models with at most this many freedoms (80 floors) are solved by the dense eigensolver
+(LAPACK, cost growing with the cube of the floors, negligible at that size); larger ones by
+subspace iteration on the banded stiffness (:func:`_subspace_modes`), linear in the floors.
+Both give the same modes to round-off."""
+
+_SUBSPACE_MAX_IT = 200
+_SUBSPACE_TOL = 1e-11  # relative residual of every returned mode (M-norm)
+
+
+def _subspace_modes(stick: StickModel, band: BandedStiffness, n_modes: int) -> tuple[np.ndarray, np.ndarray] | None:
+    """The lowest ``n_modes`` of K phi = w^2 M phi by subspace iteration with Rayleigh-Ritz
+    projection (K.-J. Bathe, *Finite Element Procedures*, 1996, section 11.6; from memory),
+    the solves with K from the banded factor, M applied floor by floor; None when it does not
+    settle or the Sturm check fails (the caller then uses the dense solver).
+
+    q = max(2 p, p + 8) vectors: smooth sway and twist shapes (height powers) and
+    pseudo-random ones from a fixed seed (deterministic; every mode has a part in them).
+    Converged when every wanted pair has a relative residual
+    ||w^2 K^-1 M phi - phi||_M <= 1e-11; then a Sturm sequence count proves that no mode
+    below them was missed (exactly p eigenvalues below the midpoint to the next Ritz value).
+    """
+    n = stick.n_levels
+    ndof = 3 * n
+    q = min(ndof, max(2 * n_modes, n_modes + 8))
+    if 2 * q > ndof:
+        return None
+    blocks = _floor_mass_blocks(stick)
+
+    def mass(x: np.ndarray) -> np.ndarray:
+        return np.matmul(blocks, x.reshape(n, 3, -1)).reshape(ndof, -1)
+
+    z = np.array([lv.elevation_m for lv in stick.levels], dtype=float) - stick.base_elevation_m
+    z = z / z[-1] if z[-1] > 0 else np.arange(1, n + 1) / n
+    radius = np.sqrt(blocks[:, 2, 2] / blocks[:, 0, 0])  # about the origin: twist scaled like sway
+    cols: list[np.ndarray] = []
+    power = 1
+    while len(cols) < q - max(2, q // 3):
+        for c in range(3):
+            v = np.zeros((n, 3))
+            v[:, c] = z ** power / (radius if c == 2 else 1.0)
+            cols.append(v.ravel())
+        power += 1
+    rng = np.random.default_rng(20250101)
+    while len(cols) < q:
+        cols.append(rng.standard_normal(ndof))
+    x = np.column_stack(cols[:q])
+    try:
+        for _ in range(_SUBSPACE_MAX_IT):
+            mx = mass(x)
+            y = band.solve(mx)  # K^-1 M X
+            k_r = y.T @ mx  # = Y^T K Y
+            m_r = y.T @ mass(y)
+            lam, vec = eigh(0.5 * (k_r + k_r.T), 0.5 * (m_r + m_r.T))
+            x = y @ vec  # M-orthonormal Ritz vectors, ascending Ritz values
+            xk = x[:, :n_modes]
+            res = band.solve(mass(xk)) * lam[:n_modes] - xk
+            if np.all(np.sqrt(np.abs(np.sum(res * mass(res), axis=0))) <= _SUBSPACE_TOL):
+                sigma = 0.5 * (lam[n_modes - 1] + lam[n_modes])
+                if not lam[0] > 0 or count_modes_below(stick, band, sigma) != n_modes:
+                    return None
+                return lam[:n_modes], xk
+    except np.linalg.LinAlgError:
+        return None
+    return None
+
+
 def _period(w2: float) -> float:
     return 2.0 * math.pi / math.sqrt(w2) if w2 > 0 else math.inf
 
@@ -217,7 +285,6 @@ def modal_analysis(
     """Natural modes of the stick model (see module doc). Raises InputError for a mechanism."""
     warnings: list[str] = list(assembly_notes(stick))
     mm = mass_matrix(stick)
-    k0 = stiffness_matrix(stick)
     n = stick.n_levels
     ndof = 3 * n
     # Positive definiteness and the static solves from the banded (uncondensed) stiffness:
@@ -243,19 +310,28 @@ def modal_analysis(
             "term is not positive definite); modes reported without P-Delta"
         )
     use_pd = p_delta and stable
-    kp = stiffness_matrix(stick, p_delta=True, g=g) if stable else None  # dense, for the eigensolver
-    kk = kp if use_pd else k0
     band = band_p if use_pd else band_0
-    w2, vecs = _solve(kk, mm, n_modes)
 
-    def first_period(k: np.ndarray) -> float:
-        return _period(float(eigh(k, mm, eigvals_only=True, subset_by_index=[0, 0], check_finite=False)[0]))
+    def lowest(with_pd: bool, count: int) -> tuple[np.ndarray, np.ndarray]:
+        """The lowest modes of K (+ K_G with ``with_pd``): subspace iteration for large models,
+        the dense solver for small ones or when the iteration does not settle."""
+        got = None
+        if ndof > DENSE_MAX_DOF:
+            got = _subspace_modes(stick, band_p if with_pd else banded_stiffness(stick), count)
+        if got is None:
+            got = _solve(stiffness_matrix(stick, p_delta=with_pd, g=g), mm, count)
+        return got
+
+    w2, vecs = lowest(use_pd, n_modes)
+
+    def first_period(with_pd: bool) -> float:
+        return _period(float(lowest(with_pd, 1)[0][0]))
 
     if use_pd:
-        t1_with, t1_without = _period(float(w2[0])), first_period(k0)
+        t1_with, t1_without = _period(float(w2[0])), first_period(False)
     else:
         t1_without = _period(float(w2[0]))
-        t1_with = first_period(kp) if stable else math.inf
+        t1_with = first_period(True) if stable else math.inf
 
     masses = np.array([lv.mass_kg for lv in stick.levels])
     polars = np.array([lv.polar_moment_kg_m2 for lv in stick.levels])
