@@ -324,11 +324,15 @@ def build_storeys(sources: list[SourceStorey], slabs: list[Placed], walls: list[
         # keep the larger piece; of equal ones, the one the export put in this storey
         plates_here.sort(key=lambda p: (-p.element.area_m2, p.element.storey_id != L.source_id))
         drop: set[int] = set()
+        # only pairs whose plan boxes meet can be duplicates: a spatial index keeps a floor
+        # split into thousands of pieces from costing n^2 comparisons
+        tree = shapely.STRtree([p.element.footprint for p in plates_here])
         for i, a in enumerate(plates_here):
             if id(a) in drop:
                 continue
-            for b in plates_here[i + 1:]:
-                if id(b) in drop or not _duplicates(a, b):
+            for j in sorted(tree.query(a.element.footprint).tolist()):
+                b = plates_here[j]
+                if j <= i or id(b) in drop or not _duplicates(a, b):
                     continue
                 drop.add(id(b))
                 dupes.append(f"{b.element.global_id} (of {a.element.global_id} at {b.element.top_elevation_m:.2f} m)")
