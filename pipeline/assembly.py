@@ -417,7 +417,6 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     a = run[0].level_index
     fixed = a == 0
     floors = list(range(a if fixed else a - 1, run[-1].level_index + 1))
-    fpos = {f: k for k, f in enumerate(floors)}
     nq = 3 * len(floors)
     nodes = len(run) + 1  # node 0 at the bottom
     # slope freedoms: node 0 only when the bottom is pinned (free rotation)

@@ -15,7 +15,8 @@ Across-wind static loads are not included (EN 1991-1-4 has no across-wind load m
 buildings).
 
 Response: u = K^-1 P with the stick model's stiffness matrix
-(:func:`swayscreen.pipeline.assembly.stiffness_matrix`, DOF 3i x, 3i+1 y, 3i+2 twist). Drift
+(:func:`swayscreen.pipeline.assembly.stiffness_matrix`, DOF 3i x, 3i+1 y, 3i+2 twist), all
+directions at once through the stick's banded factor (:mod:`swayscreen.pipeline.banded`). Drift
 is measured at the vertices of each floor plate's convex hull (torsion included): storey
 drift = |u_i(p) - u_{i-1}(p)| over the storey height, top drift = |u_top(p)| over the height
 to the top floor; the largest over points and directions governs. Limits H/500 and h/500
@@ -43,7 +44,6 @@ from .wind_common import (
     basic_wind_speed,
     level_plate,
     plan_points,
-    point_displacement,
     sector_directions,
     terrain_from_settings,
     wind_settings,

@@ -1,8 +1,11 @@
 """Modal analysis of the stick model: periods, mode shapes, mass participation, P-Delta.
 
-Solves the generalized eigenproblem K phi = omega^2 M phi (scipy.linalg.eigh, lowest
-modes only) on the rigid-floor model assembled by :mod:`swayscreen.pipeline.assembly`
-(pseudo-3D idealisation, Stafford Smith and Coull 1991). Also gives the Rayleigh
+Solves the generalized eigenproblem K phi = omega^2 M phi, lowest modes only, on the
+rigid-floor model assembled by :mod:`swayscreen.pipeline.assembly` (pseudo-3D idealisation,
+Stafford Smith and Coull 1991): up to :data:`DENSE_MAX_DOF` freedoms with the dense LAPACK
+solver (scipy.linalg.eigh), above that by subspace iteration on the banded stiffness of
+:mod:`swayscreen.pipeline.banded` with a Sturm sequence check (cost linear in the floors;
+the same modes to round-off). Static solves use the banded factor. Also gives the Rayleigh
 estimate of the fundamental period from the static sway under the floor weights applied
 laterally (the idea of EN 1991-1-4 Annex F F.2(1) and EN 1998-1 4.3.3.2.2(5)).
 
