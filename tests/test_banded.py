@@ -99,3 +99,33 @@ def test_p_delta_beyond_stability_is_not_positive_definite() -> None:
     assert banded_stiffness(s).positive_definite
     assert not banded_stiffness(s, p_delta=True).positive_definite
     assert not is_positive_definite(stiffness_matrix(s, p_delta=True))
+
+
+def test_wide_band_falls_back_to_the_condensed_matrix():
+    """Hundreds of separate walls on a floor: the band would be wider than the condensed matrix;
+    the fallback must give the same solves and Sturm counts as the dense condensed matrix."""
+    import numpy as np
+    from shapely.geometry import box
+
+    from swayscreen.pipeline.assembly import mass_matrix, stiffness_matrix
+    from swayscreen.pipeline.banded import banded_stiffness, count_modes_below
+    from swayscreen.pipeline.stick import Level, Segment, StickModel
+
+    rng = np.random.default_rng(7)
+    n, nw = 3, 200
+    levels = tuple(Level(f"L{i}", f"id{i}", 3.0 * (i + 1), 3.0, 5e5, (0.0, 0.0), 5e7, plate=box(-30, -30, 30, 30))
+                   for i in range(n))
+    segs = []
+    for w in range(nw):
+        x, y = rng.uniform(-25, 25, 2)
+        segs += [Segment(f"wall-{w}", "wall", i, 3.0, (float(x), float(y)), ei_xx_nm2=1e9, ei_yy_nm2=2e9,
+                         ga_x_n=1e9, ga_y_n=1e9, gj_nm2=1e7) for i in range(n)]
+    stick = StickModel("b", "B", 0.0, levels, tuple(segs))
+    band = banded_stiffness(stick)
+    assert band.n_full == 3 * n  # the fallback: the condensed matrix as a full band
+    k = stiffness_matrix(stick)
+    loads = rng.normal(size=(3 * n, 4))
+    assert np.allclose(band.solve(loads), np.linalg.solve(k, loads), rtol=1e-9, atol=0)
+    w2 = np.sort(np.linalg.eigvals(np.linalg.solve(mass_matrix(stick), k)).real)
+    mid = 0.5 * (w2[3] + w2[4])
+    assert count_modes_below(stick, band, mid) == 4  # Sturm count (Bathe, FE Procedures 11.6.4)
