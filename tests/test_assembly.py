@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 import pytest
+from reference_tables import PARALLEL_GAMMA
 from hypothesis import given, settings, strategies as st
 from scipy.linalg import eigh
 
@@ -251,15 +252,7 @@ def test_shear_building_reference_values():
 
 # Miranda & Taghavi (2005) coupled flexure-shear beam; reference sheet section 7 [DER]
 # gamma_n for alpha = H sqrt(GA/EI); omega_n = gamma_n^2 sqrt(EI/(m H^4)).
-WALL_FRAME = {
-    0.5: (1.9174, 4.7135, 7.8647),
-    1.0: (2.0274, 4.7704, 7.8943),
-    2.0: (2.3283, 4.9775, 8.0095),
-    3.0: (2.6307, 5.2676, 8.1907),
-    5.0: (3.1564, 5.9347, 8.6964),
-    10.0: (4.1965, 7.5166, 10.2714),
-    20.0: (5.7585, 10.0813, 13.2776),
-}
+WALL_FRAME = {a: g for a, g in PARALLEL_GAMMA.items() if a > 0}
 
 
 @pytest.mark.parametrize("alpha", sorted(WALL_FRAME))

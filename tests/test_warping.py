@@ -21,6 +21,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from reference_tables import PARALLEL_GAMMA
 from scipy.linalg import eigh
 from shapely.geometry import box
 
@@ -46,16 +47,7 @@ from swayscreen.pipeline.takeoff import BuildingTakeoff, Material, Slab, Storey,
 
 # methods.md section 7, parallel (wall-frame) model: alpha -> (gamma_1, gamma_2, gamma_3),
 # w_n = gamma_n^2 sqrt(EI / (m H^4)); alpha = 0 is the Euler-Bernoulli cantilever.
-PARALLEL = {
-    0.0: (1.8751, 4.6941, 7.8548),
-    0.5: (1.9174, 4.7135, 7.8647),
-    1.0: (2.0274, 4.7704, 7.8943),
-    2.0: (2.3283, 4.9775, 8.0095),
-    3.0: (2.6307, 5.2676, 8.1907),
-    5.0: (3.1564, 5.9347, 8.6964),
-    10.0: (4.1965, 7.5166, 10.2714),
-    20.0: (5.7585, 10.0813, 13.2776),
-}
+PARALLEL = PARALLEL_GAMMA
 # methods.md section 7 table, columns gamma_1^2, T_1/T_2, T_1/T_3
 PARALLEL_RATIOS = {
     0.0: (3.5160, 6.2669, 17.5475),
