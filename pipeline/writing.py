@@ -485,24 +485,34 @@ class _Builder:
         self.schema = schema
         self.next_id = first_id
         self.lines: list[str] = []
+        self._layouts: dict[str, tuple] = {}
+
+    def _layout(self, entity: str) -> tuple[tuple[str, ...], set[str], tuple[bool, ...], tuple[bool, ...]]:
+        """Attribute names, their set, derived flags and optional flags of ``entity`` (cached)."""
+        got = self._layouts.get(entity)
+        if got is None:
+            decl = self.schema.declaration_by_name(entity)
+            attrs = decl.all_attributes()
+            names = tuple(a.name() for a in attrs)
+            got = (names, set(names), tuple(bool(d) for d in decl.derived()), tuple(a.optional() for a in attrs))
+            self._layouts[entity] = got
+        return got
 
     def add(self, entity: str, **attrs: object) -> int:
-        decl = self.schema.declaration_by_name(entity)
-        names = [a.name() for a in decl.all_attributes()]
-        derived = list(decl.derived())
+        names, name_set, derived, optional = self._layout(entity)
         # IFC4X3 renamed IfcProperty.Description to Specification
-        if "Description" in attrs and "Description" not in names and "Specification" in names:
+        if "Description" in attrs and "Description" not in name_set and "Specification" in name_set:
             attrs["Specification"] = attrs.pop("Description")
-        unknown = set(attrs) - set(names)
+        unknown = set(attrs) - name_set
         if unknown:
             raise AssertionError(f"{entity} has no attribute(s) {sorted(unknown)} in {self.schema.name()}")
         values = []
-        for attr, name, is_derived in zip(decl.all_attributes(), names, derived):
+        for name, is_derived, is_optional in zip(names, derived, optional):
             if is_derived:
                 values.append("*")
                 continue
             v = attrs.get(name)
-            if v is None and not attr.optional():
+            if v is None and not is_optional:
                 raise AssertionError(f"{entity}.{name} is required in {self.schema.name()}")
             values.append(_p21_value(v))
         iid = self.next_id
