@@ -260,15 +260,15 @@ def _damper_plot(plt, b) -> str | None:
     fig, ax = plt.subplots(figsize=(7, 4))
     xs = [p[0] * 100 for p in curve.points]
     ys = [p[1] for p in curve.points]
-    ax.plot(xs, ys, color="#1f5fa8", label=curve.label)
-    ax.axhline(curve.limit_mg, color="#b5432a", ls="--", lw=1, label=f"limit {curve.limit_mg:g} mg")
+    ax.plot(xs, ys, color="#1f5fa8", label="peak from the response model")
+    ax.axhline(curve.limit_mg, color="#b5432a", ls="--", lw=1, label=f"limit {curve.limit_mg:.3g} mg")
     if getattr(curve, "proposed_added_damping", None) is not None:
         ax.axvline(curve.proposed_added_damping * 100, color="#555", ls=":", lw=1, label="proposed damper")
     ax.set_xlabel("added damping (% of critical)")
     ax.set_ylabel("peak acceleration (mg)")
     ax.grid(alpha=0.3)
-    ax.legend(fontsize=8)
-    ax.set_title("Governing peak acceleration against added damping", fontsize=10)
+    ax.legend(fontsize=8, loc="upper right")
+    ax.set_title(f"Peak acceleration against added damping: {curve.label}", fontsize=9)
     return _svg(fig)
 
 
