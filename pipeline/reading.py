@@ -417,7 +417,7 @@ class _Reader:
                     self.types[o.id()] = t
         self.load_bearing: dict[int, bool] = {}
         self.occupancy: dict[int, str] = {}
-        for rel in m.by_type("IfcRelDefinesByProperties"):
+        for rel in self._relevant_property_rels():
             pds = attr(rel, "RelatingPropertyDefinition")
             for pd in (pds if isinstance(pds, tuple) else (pds,)):
                 name = attr(pd, "Name") if pd is not None else None
@@ -435,6 +435,18 @@ class _Reader:
                             for o in attr(rel, "RelatedObjects") or ():
                                 if o is not None:
                                     self.occupancy[o.id()] = text
+
+    def _relevant_property_rels(self) -> list:
+        """The IfcRelDefinesByProperties attaching sets to walls or spaces (the only objects
+        whose sets are read), found through their IsDefinedBy inverses instead of walking every
+        relation of the model; in id order (file order in practice), as ``by_type`` gives them."""
+        rels: dict[int, object] = {}
+        for ifc_type in ("IfcWall", "IfcSpace"):
+            for o in self.model.by_type(ifc_type):
+                for rel in o.IsDefinedBy or ():
+                    if rel is not None and rel.is_a("IfcRelDefinesByProperties"):
+                        rels.setdefault(rel.id(), rel)
+        return [rels[k] for k in sorted(rels)]
 
     @staticmethod
     def _pset_load_bearing(pset) -> bool | None:
