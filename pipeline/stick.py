@@ -63,7 +63,7 @@ class SectionProps:
         shear_area_x_m2: web area effective for shear in x (walls parallel to x).
         shear_area_y_m2: web area effective for shear in y.
         j_m4: St Venant / Bredt-Batho torsion constant.
-        shear_centre_m: (x, y); the centroid for closed or doubly symmetric sections.
+        shear_centre_m: (x, y), from the thin-walled centre-line model (open, branched and multi-cell).
         closed: True when at least one closed cell acts closed (Bredt-Batho).
         cw_m6: warping constant C_w about the shear centre (open sections; 0 when unknown
             or negligible, e.g. closed cells).
@@ -92,7 +92,7 @@ class Segment:
     columns: pure shear springs at ``centre_m``).
 
     Attributes:
-        system_id: e.g. "core-1", "wall-<GlobalId>", "columns".
+        system_id: e.g. "core-1", "wall-3" (a separate wall), "columns".
         level_index: index into ``StickModel.levels`` of the floor on top of this segment.
         length_m: segment length (storey height).
         centre_m: reference point in plan: shear centre of a core/wall, centre of
@@ -130,7 +130,7 @@ class CoreSummary:
     """A core or separate wall found from the wall graph (for reports and write-back).
 
     Attributes:
-        id: "core-1", ... or "wall-<GlobalId>" for a separate wall.
+        id: "core-1", ... or "wall-<n>" for a separate wall (stable over the height).
         wall_ids: GlobalIds of the walls forming it (over all storeys).
         closed: True when a closed cell acts closed (see DEVELOPERS.md for the door rule).
         section: the section at the lowest above-grade storey where it exists.
