@@ -11,7 +11,8 @@ ends in ``_checks``. Status:
   the only failing checks come from methods used outside their validity range (their values
   are extrapolations: a wind-tunnel study is needed to clear or confirm them).
 
-The governing check is the worst valid check, or the worst overall when no valid check fails.
+The governing check is the worst check whose method is within its range (the worst overall
+only when no such check exists).
 """
 from __future__ import annotations
 
@@ -60,7 +61,7 @@ def assess(
     reasons = list(missing)
     valid_fail = [c for c in checks if c.valid and not c.passes]
     invalid_fail = [c for c in checks if not c.valid and not c.passes]
-    pool = valid_fail or checks
+    pool = valid_fail or [c for c in checks if c.valid] or checks
     governing = max(pool, key=lambda c: c.ratio) if pool else None
     if height_m is not None and height_m < min_wind_height_m:
         reasons.insert(
