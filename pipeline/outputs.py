@@ -35,7 +35,6 @@ import math
 import os
 import re
 import signal
-import tempfile
 import threading
 from datetime import datetime, timezone
 from pathlib import Path
@@ -43,6 +42,7 @@ from typing import Any
 
 from . import __version__
 from .console import CAUTION
+from .fileio import temp_beside
 
 __all__ = ["annotations_for", "write_outputs", "PSET_PREFIX"]
 
@@ -250,15 +250,15 @@ def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[s
     out_dir.mkdir(parents=True, exist_ok=True)
     staged: list[tuple[Path, Path]] = []
     try:
-        tmp = _stage_name(ifc_out)
+        tmp = temp_beside(ifc_out)
         staged.append((tmp, ifc_out))
         write_annotated(src, tmp, annotations, owner_prefix=PSET_PREFIX)
         for text, final in ((summary_text, paths["summary"]), (report_html, paths["report"])):
-            tmp = _stage_name(final)
+            tmp = temp_beside(final)
             staged.append((tmp, final))
             tmp.write_bytes(text.encode("utf-8", "replace"))  # names from damaged files may hold lone surrogates
         if topics:
-            tmp = _stage_name(bcf_path)
+            tmp = temp_beside(bcf_path)
             staged.append((tmp, bcf_path))
             write_bcfzip(tmp, topics, project_name=src.stem, date=when)
         with _sigint_held():
@@ -271,14 +271,6 @@ def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[s
             tmp.unlink(missing_ok=True)
         raise
     return paths
-
-
-def _stage_name(final: Path) -> Path:
-    """A new, empty, uniquely named file beside ``final`` (same file system, so renaming is atomic)."""
-    fd, tmp = tempfile.mkstemp(prefix=f".{final.name}.", suffix=".part", dir=final.parent)
-    os.close(fd)
-    os.chmod(tmp, 0o644)
-    return Path(tmp)
 
 
 @contextlib.contextmanager

@@ -68,7 +68,6 @@ import math
 import mmap
 import os
 import re
-import tempfile
 import uuid
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
@@ -76,6 +75,7 @@ from pathlib import Path
 from typing import BinaryIO, Union
 
 from .errors import InputError
+from .fileio import atomic_path
 
 __all__ = [
     "Prop",
@@ -848,12 +848,6 @@ def _stream(src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> int:
     return _Copier(src, out, drop, lines).run()
 
 
-def _atomic_output(dst: Path):
-    dst.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{dst.name}.", suffix=".part", dir=dst.parent)
-    return fd, Path(tmp)
-
-
 def _same_file(a: Path, b: Path) -> bool:
     try:
         return a.resolve() == b.resolve() or (b.exists() and os.path.samefile(a, b))
@@ -881,17 +875,10 @@ def write_annotated(
     if _same_file(src, dst):
         raise InputError(f"{dst}: the annotated copy must not overwrite its source")
     plan = _plan(src, annotations, owner_prefix)
-    fd, tmp = _atomic_output(dst)
-    try:
-        with os.fdopen(fd, "wb") as out:
-            written = _stream(src, out, plan.drop_ids, plan.lines)
-            out.flush()
-            os.fsync(out.fileno())
-        os.chmod(tmp, 0o644)
-        os.replace(tmp, dst)
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
+    with atomic_path(dst) as tmp, os.fdopen(os.open(tmp, os.O_WRONLY | os.O_TRUNC), "wb") as out:
+        written = _stream(src, out, plan.drop_ids, plan.lines)
+        out.flush()
+        os.fsync(out.fileno())
     errors = tuple(validate_output(dst)) if validate else None
     return WriteReport(
         dst=dst,
@@ -977,15 +964,8 @@ def write_annotated_reserialise(
         if oh.id() not in before and not model.get_inverse(oh):
             model.remove(oh)
 
-    fd, tmp = _atomic_output(dst)
-    os.close(fd)
-    try:
+    with atomic_path(dst) as tmp:
         model.write(str(tmp))
-        os.chmod(tmp, 0o644)
-        os.replace(tmp, dst)
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
     errors = tuple(validate_output(dst)) if validate else None
     return WriteReport(
         dst=dst,
