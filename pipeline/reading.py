@@ -208,6 +208,9 @@ def _open_with_log(p: Path):
     import ifcopenshell
 
     _check_file(p)
+    # The parser's log is read as text below; ifcopenshell.validate switches the process-wide
+    # format to JSON and leaves it so, which hid parser messages from later reads.
+    ifcopenshell.ifcopenshell_wrapper.set_log_format_text()
     ifcopenshell.get_log()  # drain messages of earlier files
     try:
         if p.stat().st_size > _LAZY_ABOVE_BYTES:
