@@ -843,3 +843,18 @@ def test_a_floor_in_thousands_of_pieces_is_read_in_bounded_time(ifc_builder, tmp
     r = screen(capsys, path)
     assert r.code in (0, 1)
     assert r.seconds < 25  # all pairs: about a minute on the test machine; indexed: a few seconds
+
+
+def test_parser_messages_survive_an_earlier_validation(ifc_builder, tmp_path, capsys):
+    """ifcopenshell.validate switches the process-wide parser log to JSON and leaves it so; the
+    reader must still hear the parser drop a value in a later read in the same process."""
+    import ifcopenshell.ifcopenshell_wrapper
+
+    b = ifc_builder("IFC4", "m")
+    building(b, 3)
+    ent, index, _ = _target(b, "wall location")
+    path = set_raw(b.write(tmp_path / "m.ifc"), ent, index, "(NaN,0.,0.)")
+    ifcopenshell.ifcopenshell_wrapper.set_log_format_json()  # as validate() leaves it
+    r = screen(capsys, path)
+    assert r.code in (0, 1)
+    assert r.warned("the IFC parser could not read 1 value(s)", f"#{ent.id()}")
