@@ -236,6 +236,32 @@ def _schema_name(model) -> str:
 
 # ---------------------------------------------------------------------------- solids
 
+@dataclass(frozen=True)
+class SourceFile:
+    """The IFC file as the reader found it: lets the writer reuse the parse it already paid for.
+
+    Attributes:
+        path: the file read.
+        size_bytes, mtime_ns: its size and modification time when it was opened; the writer
+            re-opens the file itself when either has changed since.
+        model: the open ifcopenshell file (lazy above 8 MB). Read-only by contract: nothing but
+            the writer's planning step may touch it.
+    """
+
+    path: Path
+    size_bytes: int
+    mtime_ns: int
+    model: object = field(repr=False, compare=False)
+
+    def unchanged(self) -> bool:
+        """True when the file on disk still has the size and modification time it was read with."""
+        try:
+            st = self.path.stat()
+        except OSError:
+            return False
+        return st.st_size == self.size_bytes and st.st_mtime_ns == self.mtime_ns
+
+
 @dataclass
 class _Solid:
     """The reader's summary of one element body (world metres)."""
@@ -1024,11 +1050,21 @@ class _Reader:
 
 
 def read_model(path: str | Path, levels: LevelSettings | None = None) -> Takeoff:
+    """Read an IFC file into a takeoff (SI metres, world coordinates); see :func:`read_model_and_source`."""
+    return read_model_and_source(path, levels)[0]
+
+
+def read_model_and_source(path: str | Path, levels: LevelSettings | None = None) -> tuple[Takeoff, SourceFile]:
     """Read an IFC file into a takeoff (SI metres, world coordinates).
 
     Args:
         path: the .ifc file (IFC2X3, IFC4 or IFC4X3, STEP physical file).
         levels: floor tolerance, finish-layer threshold and ground rule (defaults when None).
+
+    Returns:
+        The takeoff, and the source as it was read (path, size, modification time and the open
+        ifcopenshell file). Only the writer may use the open file, to plan its write-back
+        without parsing the file a second time.
 
     Raises:
         InputError: one line naming the file (and element) for unusable input: missing,
@@ -1038,8 +1074,10 @@ def read_model(path: str | Path, levels: LevelSettings | None = None) -> Takeoff
     levels = levels or LevelSettings()
     p = Path(path)
     model, log = _open_with_log(p)
+    st = p.stat()
     try:
-        return _Reader(model, p, levels, log).run()
+        takeoff = _Reader(model, p, levels, log).run()
+        return takeoff, SourceFile(p, st.st_size, st.st_mtime_ns, model)
     except InputError:
         raise
     except RecursionError:
