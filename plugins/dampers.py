@@ -56,7 +56,6 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 from scipy.linalg import solve_continuous_lyapunov
-from scipy.optimize import brentq, minimize
 from shapely.geometry import MultiPolygon, Polygon
 
 __all__ = [
@@ -344,6 +343,8 @@ def optimal_tuning_numeric(mu: float, zeta_s: float = 0.0, match: str = "acceler
     reproduces Warburton's closed form (methods.md section 8 [DER]); with a damped primary
     it tunes slightly lower.
     """
+    from scipy.optimize import minimize  # imported on use: scipy.optimize costs ~0.5 s to import
+
     w = warburton_tuning(mu)
 
     def neg(x: np.ndarray) -> float:
@@ -378,6 +379,8 @@ def mass_ratio_for_damping(
     """
     if not target_total > zeta_s:
         raise ValueError(f"target damping {target_total:.4g} is not above the structure's {zeta_s:.4g}")
+    from scipy.optimize import brentq  # imported on use: scipy.optimize costs ~0.5 s to import
+
     lo = 1e-8
     hi_val = equivalent_damping(mu_max, zeta_s, match=match, rule=rule)
     if hi_val < target_total:

@@ -52,7 +52,6 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
-from scipy.optimize import brentq
 from shapely import union_all
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
@@ -642,6 +641,8 @@ def _solve_increasing(g: Callable[[float], float], lo: float, hi: float) -> floa
         return lo
     if g(hi) > 0:
         return None
+    from scipy.optimize import brentq  # imported on use: only when a scheme needs damping
+
     return float(brentq(g, lo, hi, xtol=1e-9, rtol=1e-8))
 
 
