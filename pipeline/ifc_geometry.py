@@ -306,6 +306,7 @@ class Geometry:
         self.where = where
         self._axis: dict[int, np.ndarray] = {}
         self._placement: dict[int, np.ndarray] = {}
+        self._mapped: dict[int, tuple[list[Prism], bool]] = {}
         self._profile: dict[int, Profile] = {}
         self._profile_by_value: dict[tuple, Profile] = {}
         self._curve: dict[int, np.ndarray] = {}
@@ -776,13 +777,22 @@ class Geometry:
         if t == "IfcMappedItem":
             src = attr(it, "MappingSource")
             m = base @ self.transform_operator(attr(it, "MappingTarget")) @ self.axis2(attr(src, "MappingOrigin"))
-            out: list[Prism] = []
-            clipped = False
-            for sub in attr(attr(src, "MappedRepresentation"), "Items"):
-                p, c = self._item(sub, m, depth + 1)
-                out.extend(p)
-                clipped = clipped or c
-            return out, clipped
+            # the mapped representation is read once (in its own coordinates) and placed per use
+            local = self._mapped.get(src.id())
+            if local is None:
+                out: list[Prism] = []
+                clipped = False
+                for sub in attr(attr(src, "MappedRepresentation"), "Items"):
+                    p, c = self._item(sub, _EYE4, depth + 1)
+                    out.extend(p)
+                    clipped = clipped or c
+                local = (out, clipped)
+                self._mapped[src.id()] = local
+            else:
+                self._budget -= len(local[0])
+                if self._budget < 0:
+                    raise NotParametric(f"body with more than {MAX_BODY_ITEMS} representation items")
+            return [place_prism(q, m) for q in local[0]], local[1]
         raise Unsupported(t)
 
     def _extrusion(self, solid, base: np.ndarray) -> Prism:
@@ -799,26 +809,7 @@ class Geometry:
         vx = (a * d[0] + b * d[1] + c * d[2]) * depth_f
         vy = (e * d[0] + f * d[1] + g * d[2]) * depth_f
         vz = (h * d[0] + i * d[1] + j * d[2]) * depth_f
-        depth = math.sqrt(vx * vx + vy * vy + vz * vz)
-        if depth > 0:
-            direction = (vx / depth, vy / depth, vz / depth)
-        else:
-            direction = (c, g, j)
-        # area vector of the profile plane (columns 0 and 1, scaled by mapped items)
-        nx, ny, nz = e * i - h * f, h * b - a * i, a * f - e * b
-        volume = profile.area * abs(nx * vx + ny * vy + nz * vz)
-        c0 = math.sqrt(a * a + e * e + h * h) or 1.0
-        c1 = math.sqrt(b * b + f * f + i * i) or 1.0
-        vertical = abs(h) <= _SIN_TOL * c0 and abs(i) <= _SIN_TOL * c1 and abs(abs(direction[2]) - 1.0) < VERTICAL_TOL
-        if vertical:
-            z0, z1 = tz, tz + vz
-            zmin, zmax = (z0, z1) if z0 <= z1 else (z1, z0)
-            p = Prism(profile, m, np.array(direction), depth, False, True, zmin, zmax, volume)
-        else:
-            p = Prism(profile, m, np.array(direction), depth, False, False, 0.0, 0.0, volume)
-            v = prism_vertices(p)
-            p = dataclasses.replace(p, zmin=float(v[:, 2].min()), zmax=float(v[:, 2].max()))
-        return p
+        return _prism(profile, m, vx, vy, vz)
 
     # -- explicit faces (B-reps, face sets, surface models) ----------------------------
     def items_faces(self, items, base: np.ndarray) -> tuple[list[Face], bool]:
@@ -928,6 +919,53 @@ class Geometry:
                 outer, inner = inner[0], inner[1:]
             if outer is not None:
                 out.append((outer, inner))
+
+
+def _prism(profile: Profile, m: np.ndarray, vx: float, vy: float, vz: float, clipped: bool = False) -> Prism:
+    """The prism of ``profile`` placed by ``m`` (profile plane to world) and extruded along the
+    world vector (vx, vy, vz), with its closed-form summary."""
+    (a, b, c, tx), (e, f, g, ty), (h, i, j, tz) = m[:3].tolist()
+    depth = math.sqrt(vx * vx + vy * vy + vz * vz)
+    if depth > 0:
+        direction = (vx / depth, vy / depth, vz / depth)
+    else:
+        direction = (c, g, j)
+    # area vector of the profile plane (columns 0 and 1, scaled by mapped items)
+    nx, ny, nz = e * i - h * f, h * b - a * i, a * f - e * b
+    volume = profile.area * abs(nx * vx + ny * vy + nz * vz)
+    c0 = math.sqrt(a * a + e * e + h * h) or 1.0
+    c1 = math.sqrt(b * b + f * f + i * i) or 1.0
+    vertical = abs(h) <= _SIN_TOL * c0 and abs(i) <= _SIN_TOL * c1 and abs(abs(direction[2]) - 1.0) < VERTICAL_TOL
+    if vertical:
+        z0, z1 = tz, tz + vz
+        zmin, zmax = (z0, z1) if z0 <= z1 else (z1, z0)
+        return Prism(profile, m, np.array(direction), depth, clipped, True, zmin, zmax, volume)
+    p = Prism(profile, m, np.array(direction), depth, clipped, False, 0.0, 0.0, volume)
+    v = prism_vertices(p)
+    return dataclasses.replace(p, zmin=float(v[:, 2].min()), zmax=float(v[:, 2].max()))
+
+
+def place_prism(p: Prism, base: np.ndarray) -> Prism:
+    """``p`` (read in its object's coordinates) moved by the object's world matrix ``base``.
+
+    The same prism as reading the item with ``base`` directly: the profile matrix is composed
+    (``base @ p.matrix``) and the extrusion vector rotated, so a representation shared by many
+    elements is parsed once and placed per element.
+    """
+    m = base @ p.matrix
+    r = base[:3, :3]
+    if (p.vertical and r[2, 0] == 0.0 and r[2, 1] == 0.0 and r[2, 2] == 1.0 and r[0, 2] == 0.0 and r[1, 2] == 0.0
+            and abs(r[0, 0] * r[0, 0] + r[1, 0] * r[1, 0] - 1.0) < 1e-12
+            and abs(abs(r[0, 0] * r[1, 1] - r[0, 1] * r[1, 0]) - 1.0) < 1e-12):
+        # a rigid motion that only turns about z and shifts (placements, unscaled mapping):
+        # still vertical, same depth and volume, z range shifted (the common case, exact)
+        tz = float(base[2, 3])
+        return Prism(p.profile, m, r @ p.direction, p.depth_m, p.clipped, True, p.zmin + tz, p.zmax + tz,
+                     p.volume_m3)
+    v = r @ (p.direction * p.depth_m)
+    if p.depth_m == 0.0:  # no extrusion vector to rotate: the placed profile normal stands in
+        v = v * 0.0
+    return _prism(p.profile, m, float(v[0]), float(v[1]), float(v[2]), p.clipped)
 
 
 # ---------------------------------------------------------------------------- prism maths

@@ -81,7 +81,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
-from .ifc_geometry import (MAX_COORDINATE_M, MAX_ELEVATION_M, MAX_SIZE_M, Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body,
+from .ifc_geometry import (MAX_COORDINATE_M, MAX_ELEVATION_M, MAX_SIZE_M, Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body, place_prism,
                            implausible_extent, mesh_body, polygonal, prism_footprint,
                            prism_plan_parts,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
@@ -196,6 +196,8 @@ def open_model(path: str | Path):
     """Open an IFC file with ifcopenshell after the cheap checks; InputError on failure."""
     return _open_with_log(Path(path))[0]
 
+
+_EYE4 = np.eye(4)
 
 # Above this size the file is opened lazily (instances parsed when first visited): on the
 # 160-storey benchmark tower (37 MB) that read faster and with less memory; on small files
@@ -568,7 +570,15 @@ class _Reader:
         base = self.geo.placement(el.get_argument(5))
         items = body[0].get_argument(3) or ()
         try:
-            prisms, clipped = self.geo.items_prisms(items, base)
+            # Exports share representation items among many elements (types, repeated
+            # members): their prisms are read once in object coordinates, then placed.
+            key = tuple(it.id() for it in items)
+            local = self._bodies.get(key)
+            if local is None:
+                local = self.geo.items_prisms(items, _EYE4)
+                self._bodies[key] = local
+            prisms = [place_prism(q, base) for q in local[0]]
+            clipped = local[1]
             if not prisms:
                 raise NotParametric("empty body")
             solid = _from_prisms(prisms, clipped)
@@ -871,6 +881,7 @@ class _Reader:
         self._scan()
         self._sp_cache: dict[int, object] = {}
         self._opening_cache: dict[int, _Solid | None] = {}
+        self._bodies: dict[tuple[int, ...], tuple[list[Prism], bool]] = {}
         self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa)
 
         buildings = list(m.by_type("IfcBuilding"))
