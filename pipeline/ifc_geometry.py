@@ -71,6 +71,11 @@ MAX_BODY_FACES = 500_000
 MAX_CURVE_POINTS = 1_000_000
 """Most points in one curve (composite curves repeating a segment curve grow geometrically)."""
 _RAW_MAX = 1e15
+# Values closer to zero than this (in file units) read as exactly 0. No length, ratio or
+# angle of a building element is that small; such values come from damaged or generated
+# data, and subnormal numbers (below 2.2e-308) make GEOS's predicates fail in plan unions
+# (a TopologyException found by property-based tests).
+_RAW_TINY = 1e-100
 """Largest magnitude of any number read from the file, in file units, before unit
 conversion: keeps every square and product far from float overflow (1e30 << 1.8e308)."""
 VERTICAL_TOL = 1e-4
@@ -160,25 +165,33 @@ def attr(e, name: str):
 
 
 def _real(v, what: str = "value") -> float:
-    """A number from the file, refused (NotParametric) when NaN, infinite or absurdly large."""
+    """A number from the file, refused (NotParametric) when NaN, infinite or absurdly large;
+    magnitudes below ``_RAW_TINY`` read as 0 (see there)."""
     x = float(v)
     if not -_RAW_MAX <= x <= _RAW_MAX:  # also False for NaN
         raise NotParametric(f"{what} {x:g} is not a usable number")
-    return x
+    return x if not -_RAW_TINY < x < _RAW_TINY else 0.0
 
 
 def _reals(values, what: str) -> list[float]:
     r = [float(c) for c in values]
-    for x in r:
+    for i, x in enumerate(r):
         if not -_RAW_MAX <= x <= _RAW_MAX:
             raise NotParametric(f"{what} with a value {x:g} that is not a usable number")
+        if -_RAW_TINY < x < _RAW_TINY:
+            r[i] = 0.0
     return r
 
 
 def _checked(a: np.ndarray, what: str) -> np.ndarray:
-    """``a`` unchanged when every entry is finite and of plausible size (NotParametric otherwise)."""
-    if a.size and not float(np.abs(a).max()) <= _RAW_MAX:  # NaN compares False
-        raise NotParametric(f"{what} with a value that is not a usable number")
+    """``a`` when every entry is finite and of plausible size (NotParametric otherwise), with
+    magnitudes below ``_RAW_TINY`` set to 0."""
+    if a.size:
+        big = float(np.abs(a).max())
+        if not big <= _RAW_MAX:  # NaN compares False
+            raise NotParametric(f"{what} with a value that is not a usable number")
+        if a.dtype.kind == "f" and float(np.abs(a[a != 0.0]).min(initial=1.0)) < _RAW_TINY:
+            a = np.where(np.abs(a) < _RAW_TINY, 0.0, a)
     return a
 
 
@@ -845,7 +858,7 @@ class Geometry:
         rot, off = base[:3, :3] * s, base[:3, 3]
 
         def world(pts) -> np.ndarray:
-            return np.asarray(pts, dtype=float) @ rot.T + off
+            return _checked(np.asarray(pts, dtype=float), "face coordinates") @ rot.T + off
 
         if t in ("IfcFacetedBrep", "IfcFacetedBrepWithVoids"):
             self._face_set(it.Outer.CfsFaces, world, out)
