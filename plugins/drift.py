@@ -42,8 +42,7 @@ from .wind_common import (
     Terrain,
     WindSettings,
     basic_wind_speed,
-    level_plate,
-    plan_points,
+    plate_hulls,
     sector_directions,
     terrain_from_settings,
     wind_settings,
@@ -120,9 +119,8 @@ def plate_points(stick: StickModel) -> tuple[np.ndarray, np.ndarray]:
     """The points where drift is measured: the plate hull vertices of every floor, stacked.
 
     Returns (points (P, 2), floor index of each point (P,)), floors lowest first."""
-    pts = [plan_points(level_plate(lv)) for lv in stick.levels]
-    owner = np.repeat(np.arange(len(pts)), [len(p) for p in pts])
-    return np.concatenate(pts, axis=0).reshape(-1, 2), owner
+    hulls = plate_hulls(stick)  # computed once per stick model, shared with the wind plugins
+    return hulls.points_m, hulls.owner
 
 
 def drift_profile(stick: StickModel, displacements: np.ndarray,

@@ -54,6 +54,9 @@ __all__ = [
     "plan_points",
     "plan_extent",
     "level_plate",
+    "PlateHulls",
+    "plate_hulls",
+    "level_masses",
     "FloorGeometry",
     "floor_geometry",
     "UNOCCUPIED_USAGES",
@@ -288,6 +291,73 @@ def level_plate(level: Level) -> Polygon | MultiPolygon:
     return Polygon([(cx - h, cy - h), (cx + h, cy - h), (cx + h, cy + h), (cx - h, cy + h)])
 
 
+def _memoised(stick: StickModel, key: tuple, build: Any) -> Any:
+    """``build()`` once per live stick model (the pipeline's per-stick memo, see
+    :mod:`swayscreen.pipeline.assembly`); stick models are frozen, so the result cannot go stale."""
+    from swayscreen.pipeline.assembly import _memoised as memo  # scipy-backed module: imported on use
+
+    return memo(stick, key, build)
+
+
+def _readonly(a: np.ndarray) -> np.ndarray:
+    a.setflags(write=False)
+    return a
+
+
+@dataclass(frozen=True)
+class PlateHulls:
+    """The convex-hull vertices of every floor plate (:func:`level_plate`), stacked, lowest floor first.
+
+    Attributes:
+        points_m: (P, 2) hull vertices of all floors (m), closing points dropped.
+        owner: (P,) floor index of each vertex.
+        starts: (n,) first row of each floor in ``points_m``.
+        centres_m: (n, 2) plate centroids (m).
+        fallback_plates: names of levels whose plate was estimated from the mass moment.
+    """
+
+    points_m: np.ndarray
+    owner: np.ndarray
+    starts: np.ndarray
+    centres_m: np.ndarray
+    fallback_plates: tuple[str, ...]
+
+
+def _plate_hulls_now(stick: StickModel) -> PlateHulls:
+    pts, centres, fallback = [], [], []
+    for lv in stick.levels:
+        if lv.plate is None or lv.plate.is_empty:
+            fallback.append(lv.name)
+        plate = level_plate(lv)
+        pts.append(plan_points(plate))
+        c = plate.centroid
+        centres.append((float(c.x), float(c.y)))
+    counts = [len(p) for p in pts]
+    owner = np.repeat(np.arange(len(pts)), counts)
+    starts = np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(int) if pts else np.zeros(0, dtype=int)
+    points = np.concatenate(pts, axis=0).reshape(-1, 2) if pts else np.zeros((0, 2))
+    return PlateHulls(_readonly(points), _readonly(owner), _readonly(starts),
+                      _readonly(np.array(centres, dtype=float).reshape(-1, 2)), tuple(fallback))
+
+
+def plate_hulls(stick: StickModel) -> PlateHulls:
+    """:class:`PlateHulls` of a stick model, computed once per model (the plates do not depend
+    on the wind direction; every wind plugin asks for them once per direction)."""
+    return _memoised(stick, ("wind plate hulls",), lambda: _plate_hulls_now(stick))
+
+
+def level_masses(stick: StickModel) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(mass kg (n,), polar moment about the mass centre kg m^2 (n,), mass centre m (n, 2)) of
+    every floor, lowest first; read-only arrays computed once per stick model."""
+    def build() -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        m = np.array([lv.mass_kg for lv in stick.levels], dtype=float)
+        j = np.array([lv.polar_moment_kg_m2 for lv in stick.levels], dtype=float)
+        mc = np.array([lv.mass_centre_m for lv in stick.levels], dtype=float).reshape(-1, 2)
+        return _readonly(m), _readonly(j), _readonly(mc)
+
+    return _memoised(stick, ("level masses",), build)
+
+
 UNOCCUPIED_USAGES = ("plant", "roof")
 
 
@@ -355,21 +425,18 @@ def floor_geometry(stick: StickModel, along: np.ndarray, plate_rule: str = "wide
         raise InputError(f"building {stick.building_name!r}: floor heights above the base must increase from above zero")
     seg = np.diff(np.concatenate([[0.0], z]))
     trib = 0.5 * seg + 0.5 * np.concatenate([seg[1:], [0.0]])
-    widths, depths, centres, fallback = [], [], [], []
-    for lv in stick.levels:
-        if lv.plate is None or lv.plate.is_empty:
-            fallback.append(lv.name)
-        plate = level_plate(lv)
-        b, d = plan_extent(plate, along)
-        widths.append(b)
-        depths.append(d)
-        c = plate.centroid
-        centres.append((float(c.x), float(c.y)))
-    w = np.array(widths)
+    hulls = plate_hulls(stick)
+    # plan_extent of every floor at once: projections of the stacked hull vertices, then the
+    # range within each floor's rows
+    across = np.array([-along[1], along[0]])
+    pa = hulls.points_m @ across
+    pd = hulls.points_m @ along
+    w = np.maximum.reduceat(pa, hulls.starts) - np.minimum.reduceat(pa, hulls.starts)
+    depths = np.maximum.reduceat(pd, hulls.starts) - np.minimum.reduceat(pd, hulls.starts)
     top = top_occupied_index(stick)
     ref = int(np.argmax(w)) if plate_rule == "widest" else top
-    return FloorGeometry(z, trib, w, np.array(depths), np.array(centres), ref, float(w[ref]),
-                         float(depths[ref]), float(z[-1]), top, tuple(fallback))
+    return FloorGeometry(z, trib, w, depths, hulls.centres_m.copy(), ref, float(w[ref]),
+                         float(depths[ref]), float(z[-1]), top, hulls.fallback_plates)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -402,9 +469,7 @@ def generalized_mass_kg(stick: StickModel, shape: np.ndarray) -> float:
     generalized mass about any origin (parallel-axis theorem).
     """
     s = np.asarray(shape, dtype=float)
-    m = np.array([lv.mass_kg for lv in stick.levels])
-    j = np.array([lv.polar_moment_kg_m2 for lv in stick.levels])
-    mc = np.array([lv.mass_centre_m for lv in stick.levels], dtype=float)
+    m, j, mc = level_masses(stick)
     u = point_displacement(s, mc, stick.origin_m)
     return float(np.sum(m * np.sum(u * u, axis=1)) + np.sum(j * s[:, 2] ** 2))
 
@@ -412,8 +477,7 @@ def generalized_mass_kg(stick: StickModel, shape: np.ndarray) -> float:
 def directional_participation(stick: StickModel, shape: np.ndarray, vec: np.ndarray) -> float:
     """Effective-mass ratio of a mode for a uniform floor acceleration along ``vec``:
     (sum m_i u_i . vec)^2 / (M* sum m_i), u_i at the mass centres (0..1)."""
-    m = np.array([lv.mass_kg for lv in stick.levels])
-    mc = np.array([lv.mass_centre_m for lv in stick.levels], dtype=float)
+    m, _, mc = level_masses(stick)
     u = directional_shape(shape, mc, stick.origin_m, vec)
     gm = generalized_mass_kg(stick, shape)
     if gm <= 0:
@@ -424,8 +488,7 @@ def directional_participation(stick: StickModel, shape: np.ndarray, vec: np.ndar
 def directional_share(stick: StickModel, shape: np.ndarray, vec: np.ndarray) -> float:
     """Fraction of a mode's kinetic energy in motion along ``vec``: sum m_i (u_i . vec)^2 / M*,
     u_i at the mass centres (1 for a pure translation along ``vec``, 0.5 for a diagonal one)."""
-    m = np.array([lv.mass_kg for lv in stick.levels])
-    mc = np.array([lv.mass_centre_m for lv in stick.levels], dtype=float)
+    m, _, mc = level_masses(stick)
     u = directional_shape(shape, mc, stick.origin_m, vec)
     gm = generalized_mass_kg(stick, shape)
     return float(np.sum(m * u * u) / gm) if gm > 0 else 0.0
