@@ -47,7 +47,7 @@ from .wind_common import (
     terrain_from_settings,
     wind_settings,
 )
-from .wind_en import along_wind_mode, en_along_response, en_input, peak_velocity_pressure
+from .wind_en import along_wind_mode, en_along_response, en_input, peak_velocity_pressures
 
 __all__ = [
     "DriftSettings",
@@ -87,8 +87,8 @@ class DriftSettings:
 def floor_wind_forces(geometry: FloorGeometry, v_b_m_s: float, terrain: Terrain, ws: WindSettings,
                       c_s_c_d: float = 1.0) -> np.ndarray:
     """Along-wind force on each floor (N): c_s c_d c_f q_p(z_i) b_i t_i, EN 1991-1-4 (5.4)."""
-    qp = np.array([peak_velocity_pressure(z, v_b_m_s, terrain, ws.air_density_kg_m3, ws.orography_factor,
-                                          ws.turbulence_factor) for z in geometry.z_m])
+    qp = peak_velocity_pressures(geometry.z_m, v_b_m_s, terrain, ws.air_density_kg_m3, ws.orography_factor,
+                                 ws.turbulence_factor)
     return c_s_c_d * ws.force_coefficient * qp * geometry.width_m * geometry.tributary_m
 
 
@@ -275,10 +275,10 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
     for (direction, cscd, vb, forces, _), u in zip(rows, solutions):
         drift, ratio, top, _, top_pt = drift_profile(stick, u, points)
         gi = int(np.argmax(ratio))
-        disp = tuple((float(a), float(b), float(c)) for a, b, c in u)
-        cases.append(DriftCase(direction, rp, vb, cscd, float(forces.sum()), tuple(float(f) for f in forces), disp,
-                               top, top / stick.height_m, top_pt, tuple(float(v) for v in drift),
-                               tuple(float(v) for v in ratio), stick.levels[gi].name))
+        disp = tuple(map(tuple, u.tolist()))
+        cases.append(DriftCase(direction, rp, vb, cscd, float(forces.sum()), tuple(forces.tolist()), disp,
+                               top, top / stick.height_m, top_pt, tuple(drift.tolist()),
+                               tuple(ratio.tolist()), stick.levels[gi].name))
     return DriftResult(rp, stick.height_m, ds.overall_limit_ratio, ds.storey_limit_ratio, tuple(cases))
 
 

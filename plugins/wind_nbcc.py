@@ -295,6 +295,9 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
     beta = structural_damping_ratio(ws)
     height = stick.height_m
     c_eh = nbcc_exposure_factor(height, exposure)
+    # floor heights (as FloorGeometry.z_m) do not change with the direction: each floor's exposure once
+    z_m = np.array([lv.elevation_m - stick.base_elevation_m for lv in stick.levels], dtype=float)
+    ce = np.array([nbcc_exposure_factor(z, exposure) for z in z_m])
     cases: list[AccelerationCase] = []
     for direction in sector_directions(ws.sectors):
         along, across = wind_axes(direction, stick.true_north_deg)
@@ -355,7 +358,6 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
                     peak = res.peak_m_s2
                 else:
                     q = 0.5 * ns.air_density_kg_m3 * v10 ** 2
-                    ce = np.array([nbcc_exposure_factor(z, exposure) for z in fg.z_m])
                     forces = q * ce * ws.force_coefficient * fg.width_m * fg.tributary_m
                     omega = 2.0 * math.pi * n
                     mean_top = float(np.sum(forces * phi)) / (omega ** 2 * gm)
@@ -374,7 +376,7 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
                 cases.append(AccelerationCase(
                     METHOD, float(rp), direction, response, (float(vec[0]), float(vec[1])), int(mode.index), n,
                     beta, beta, peak * top_phi / MG / res.g_p, peak * top_phi / MG,
-                    tuple(float(abs(p) * peak / MG) for p in phi),
+                    tuple((np.abs(phi) * peak / MG).tolist()),
                     stick.levels[top].name, top, valid, "; ".join(case_notes + info), details))
     return AccelerationResult(METHOD, tuple(cases), ())
 
