@@ -155,6 +155,18 @@ def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
     return mid0, mid1, t2
 
 
+def _line_of(w: Wall, lines: dict | None) -> tuple[np.ndarray, np.ndarray, float] | None:
+    """:func:`_wall_line` through ``lines`` (a dict kept over one call of
+    :func:`find_systems_by_storey`: the same wall object is met on several storeys and by
+    several steps). Entries hold the wall, so its ``id`` stays unique while the dict lives."""
+    if lines is None:
+        return _wall_line(w)
+    got = lines.get(id(w))
+    if got is None or got[0] is not w:
+        got = lines[id(w)] = (w, _wall_line(w))
+    return got[1]
+
+
 def _footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon | MultiPolygon:
     fp = w.footprint
     if fp is None or fp.is_empty or not fp.area > 0:
@@ -183,7 +195,7 @@ def _partition_note(count: int, limit_m: float) -> str:
 
 
 def _lateral(
-    walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float
+    walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float, lines: dict | None = None
 ) -> tuple[list[Wall], list[str], int, int]:
     """Kept walls, warnings, number of partitions, number flagged not load-bearing."""
     kept: list[Wall] = []
@@ -199,7 +211,7 @@ def _lateral(
             continue
         if load_bearing_only and w.load_bearing is not True:
             continue
-        line = _wall_line(w)
+        line = _line_of(w, lines)
         if line is None:
             warnings.append(f"wall {w.global_id} ({w.name!r}) has no usable axis, thickness or footprint: left out")
             continue
@@ -344,6 +356,13 @@ def _door_cuts(w: Wall, length: float, stiffness: StiffnessSettings) -> list[tup
     return cuts
 
 
+def _footprint_wkbs(walls: Sequence[Wall]) -> list[bytes]:
+    """WKB bytes of the walls' footprints (b"" for none), in one vectorised call."""
+    prints = np.empty(len(walls), dtype=object)
+    prints[:] = [w.footprint for w in walls]
+    return [b if b is not None else b"" for b in shapely.to_wkb(prints).tolist()]
+
+
 def _wall_signature(w: Wall, line: tuple[np.ndarray, np.ndarray, float], slits: tuple[float, ...],
                     wkb: bytes | None = None) -> tuple:
     """Everything of a wall that its system's section depends on: axis, thickness, footprint
@@ -370,19 +389,22 @@ def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[floa
     return combine_section(tw, plan), plan, tw.n_cells, n_geo, tw.n_parts
 
 
-def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None = None
+def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None = None,
+            line_cache: dict | None = None, wkbs: dict[int, bytes] | None = None
             ) -> tuple[str, SectionProps, bool, PlanShape, str]:
     """Kind, section, closed flag, plan and note of one connected group of walls.
 
     ``memo``: a dict shared between calls (e.g. over the storeys of one building): groups of
     walls with the same geometry (same axes, thicknesses, footprints and cuts, in any order)
-    reuse the section and plan computed for the first such group.
+    reuse the section and plan computed for the first such group. ``line_cache``: see
+    :func:`_line_of`; ``wkbs``: the WKB bytes of the walls' footprints by ``id`` of the wall,
+    when already known.
 
     Raises:
         InputError: the walls leave no centre line (all shorter than the node snapping).
     """
     kind = "core" if len(walls) > 1 else "wall"
-    lines = {w.global_id: _wall_line(w) for w in walls}
+    lines = {w.global_id: _line_of(w, line_cache) for w in walls}
     mode = stiffness.core_cells
     slits: dict[str, tuple[float, ...]] = {}
     cut_notes: list[str] = []
@@ -396,11 +418,12 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
     if memo is None:
         geo = _system_geometry(walls, lines, slits, mode)
     else:
-        prints = np.empty(len(walls), dtype=object)
-        prints[:] = [w.footprint for w in walls]
-        wkbs = [b if b is not None else b"" for b in shapely.to_wkb(prints).tolist()]
+        if wkbs is not None:
+            group_wkbs = [wkbs[id(w)] for w in walls]
+        else:
+            group_wkbs = _footprint_wkbs(walls)
         key = (mode, tuple(sorted(_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
-                                  for w, wkb in zip(walls, wkbs))))
+                                  for w, wkb in zip(walls, group_wkbs))))
         geo = memo.get(key)
         if geo is None:
             geo = memo[key] = _system_geometry(walls, lines, slits, mode)
@@ -430,6 +453,17 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
     return kind, section, section.closed, plan, note
 
 
+def _components(prints: Sequence[PlanShape], tol_m: float) -> list[tuple[int, ...]]:
+    """Groups of footprints that touch within ``tol_m`` (rule 2): the connected components of
+    the touch graph (networkx), as sorted index tuples in networkx's order."""
+    graph = nx.Graph()
+    graph.add_nodes_from(range(len(prints)))
+    tree = shapely.STRtree(prints)
+    left, right = tree.query(prints, predicate="dwithin", distance=tol_m)
+    graph.add_edges_from((int(i), int(j)) for i, j in zip(left, right) if i < j)
+    return [tuple(sorted(comp)) for comp in nx.connected_components(graph)]
+
+
 def _find_systems(
     walls: Sequence[Wall],
     stiffness: StiffnessSettings,
@@ -438,21 +472,29 @@ def _find_systems(
     partition_max_thickness_m: float = PARTITION_MAX_THICKNESS_M,
     tol_m: float = JOIN_TOL_M,
     memo: dict | None = None,
+    lines: dict | None = None,
 ) -> tuple[list[SystemSection], list[str], tuple[int, int]]:
-    kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m)
+    kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m, lines)
     if not kept:
         return [], warnings, (n_partition, n_flagged)
-    prints = [_footprint(w, _wall_line(w)) for w in kept]  # type: ignore[arg-type]
-    graph = nx.Graph()
-    graph.add_nodes_from(range(len(kept)))
-    tree = shapely.STRtree(prints)
-    left, right = tree.query(prints, predicate="dwithin", distance=tol_m)
-    graph.add_edges_from((int(i), int(j)) for i, j in zip(left, right) if i < j)
+    prints = [_footprint(w, _line_of(w, lines)) for w in kept]  # type: ignore[arg-type]
+    wkbs = None
+    if memo is not None:
+        # storeys with the same footprints (in the same order) have the same wall graph
+        fp_wkbs = _footprint_wkbs(kept)
+        wkbs = {id(w): b for w, b in zip(kept, fp_wkbs)}
+        print_wkbs = tuple(b if p is w.footprint else p.wkb for w, p, b in zip(kept, prints, fp_wkbs))
+        gkey = ("wall graph", float(tol_m), print_wkbs)
+        comps = memo.get(gkey)
+        if comps is None:
+            comps = memo[gkey] = _components(prints, tol_m)
+    else:
+        comps = _components(prints, tol_m)
     found = []
-    for comp in nx.connected_components(graph):
+    for comp in comps:
         group = sorted((kept[k] for k in comp), key=lambda w: w.global_id)
         try:
-            kind, section, closed, plan, note = _system(group, stiffness, memo)
+            kind, section, closed, plan, note = _system(group, stiffness, memo, lines, wkbs)
         except InputError as err:
             warnings.append(f"walls {', '.join(w.global_id for w in group)} give no section ({err}): left out")
             continue
@@ -583,10 +625,11 @@ def find_systems_by_storey(
     flagged: list[int] = []
     span_index = _SpanIndex(owned)
     memo: dict = {}  # wall-group geometry -> section and plan, shared over the storeys
+    lines: dict = {}  # id(wall) -> (wall, centre line), see _line_of
     for st in order:
         walls = _storey_walls(st, span_index, include_spanning_walls)
         systems, warn, (n_partition, n_flagged) = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only,
-                                                                 memo=memo)
+                                                                 memo=memo, lines=lines)
         if walls and not systems:
             warn.append(f"none of its {len(walls)} wall(s) is in the lateral system (non-load-bearing, partitions or unusable)")
         per_storey_raw.append((systems, warn, walls))
@@ -669,7 +712,7 @@ def find_systems_by_storey(
                 if w is None:
                     continue
                 # _uncovered depends on the wall's centre line only
-                line = _wall_line(w)
+                line = _line_of(w, lines)
                 ukey = ((*line[0].tolist(), *line[1].tolist(), line[2]) if line is not None else gid, id(new.plan))
                 got = uncovered_memo.get(ukey)
                 if got is None:

@@ -34,6 +34,8 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+import shapely
 from shapely.ops import unary_union
 
 from .core_settings import LevelSettings, LoadSettings, MaterialSettings, StiffnessSettings
@@ -41,8 +43,8 @@ from .floors import Floor, FloorLayout, plan_floors
 from .masses import LevelMass, floor_masses, floor_slabs
 from .materials import MaterialBook
 from .stick import CoreSummary, Level, Segment, StickModel
-from .stiffness import (ColumnInput, RestraintReport, SlabField, cantilever_segment, column_springs,
-                        frame_segment, storey_stiffness_centre)
+from .stiffness import (ColumnInput, RestraintReport, SlabField, cantilever_segment, column_frame,
+                        storey_stiffness_centre)
 from .takeoff import BuildingTakeoff, Storey, Takeoff
 
 __all__ = ["DerivedModel", "derive_stick", "derive_takeoff", "MAX_SWAY_FLOORS"]
@@ -115,30 +117,74 @@ def _find_systems(storeys: Sequence[Storey], stiffness: StiffnessSettings):
 class _Memo:
     """Work shared over the storeys of one building: storeys with the same slabs, walls and
     columns in plan reuse the same slab fields, wall unions and column springs (the inputs
-    are compared by value: WKB bytes of the plan shapes, thicknesses, moduli)."""
+    are compared by value: WKB bytes of the plan shapes, thicknesses, moduli). Per element,
+    the plan area, WKB bytes and resolved material are looked up once (by object identity;
+    the entries hold the objects, so their ids stay unique while the memo lives)."""
 
-    def __init__(self, layout: FloorLayout) -> None:
+    def __init__(self, layout: FloorLayout, book: MaterialBook | None = None) -> None:
         self.walls_by_id = {w.global_id: w for w in layout.walls}
         self.fields: dict[tuple, SlabField] = {}
+        self.field_at: dict[int, SlabField] = {}
         self.unions: dict[tuple, Any] = {}
         self.springs: dict = {}
+        self.book = book
+        self.materials: dict[int, tuple[Any, Any]] = {}
+        self.shapes: dict[int, tuple[Any, float, bytes | None]] = {}  # id(element) -> (element, area, wkb)
+        self._add_shapes(layout.walls, "footprint")
+        self._add_shapes(layout.columns, "section")
+
+    def _add_shapes(self, elements: Sequence[Any], attr: str) -> None:
+        items = [(e, getattr(e, attr)) for e in elements]
+        items = [(e, g) for e, g in items if g is not None]
+        if not items:
+            return
+        geoms = np.empty(len(items), dtype=object)
+        geoms[:] = [g for _, g in items]
+        for (e, _), area, wkb in zip(items, shapely.area(geoms).tolist(), shapely.to_wkb(geoms).tolist()):
+            self.shapes[id(e)] = (e, area, wkb)
+
+    def _shape(self, element: Any, geom: Any) -> tuple[float, bytes | None]:
+        got = self.shapes.get(id(element))
+        if got is None or got[0] is not element:
+            got = self.shapes[id(element)] = (element, float(geom.area), geom.wkb)
+        return got[1], got[2]
+
+    def area(self, element: Any, geom: Any) -> float:
+        """``geom.area`` (the element's plan shape, not None)."""
+        return self._shape(element, geom)[0]
+
+    def wkb(self, element: Any, geom: Any) -> bytes:
+        """``geom.wkb`` (the element's plan shape, not None)."""
+        return self._shape(element, geom)[1]  # type: ignore[return-value]
+
+    def material(self, book: MaterialBook, material: Any) -> Any:
+        """``book.get(material)`` (no role, so nothing is counted)."""
+        got = self.materials.get(id(material))
+        if got is None or got[0] is not material:
+            got = self.materials[id(material)] = (material, book.get(material))
+        return got[1]
 
     def slab_field(self, layout: FloorLayout, i: int, book: MaterialBook) -> SlabField:
+        got = self.field_at.get(i)
+        if got is not None:
+            return got
         slabs, _ = floor_slabs(layout.floors, i)
-        pieces = [(sl.footprint, sl.thickness_m, book.get(sl.material).e_pa) for sl in slabs]
+        pieces = [(sl.footprint, sl.thickness_m, self.material(book, sl.material).e_pa) for sl in slabs]
         key = tuple((shp.wkb, float(t), float(e)) for shp, t, e in pieces)
         got = self.fields.get(key)
         if got is None:
             got = self.fields[key] = SlabField(pieces)
+        self.field_at[i] = got
         return got
 
-    def walls_union(self, shapes: list[Any]) -> Any:
-        if not shapes:
+    def walls_union(self, walls: list[Any]) -> Any:
+        """Union of the walls' footprints (walls with a footprint)."""
+        if not walls:
             return None
-        key = tuple(sorted(shp.wkb for shp in shapes))
+        key = tuple(sorted(self.wkb(w, w.footprint) for w in walls))
         got = self.unions.get(key)
         if got is None:
-            got = self.unions[key] = unary_union(shapes)
+            got = self.unions[key] = unary_union([w.footprint for w in walls])
         return got
 
 
@@ -159,36 +205,37 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
                 continue
             seen.add(sysn.system_id)
             ws = [walls_by_id[w] for w in sysn.wall_ids if w in walls_by_id]
-            area = sum(w.plan_area_m2 for w in ws)
+            areas = [memo.area(w, w.footprint) for w in ws]
+            area = sum(areas)
             if ws and area > 0:
-                mats = [book.get(w.material) for w in ws]
-                e = sum(m.e_pa * w.plan_area_m2 for m, w in zip(mats, ws)) / area
-                g = sum(m.g_pa * w.plan_area_m2 for m, w in zip(mats, ws)) / area
+                mats = [memo.material(book, w.material) for w in ws]
+                e = sum(m.e_pa * a for m, a in zip(mats, areas)) / area
+                g = sum(m.g_pa * a for m, a in zip(mats, areas)) / area
                 if len({m.label for m in mats}) > 1:
                     warnings.append(f"{sysn.system_id} in '{s.name}': walls of different materials; "
                                     "area-weighted E and G used")
             else:
-                m = book.get(None)
+                m = memo.material(book, None)
                 e, g = m.e_pa, m.g_pa
             sec = sysn.section
             if sec.ixx_m4 <= 0 or sec.iyy_m4 <= 0:
                 warnings.append(f"{sysn.system_id} in '{s.name}': section with no bending stiffness ignored")
                 continue
             segs.append(cantilever_segment(sysn.system_id, sysn.kind, j, f.height_m, sec, e, g, stiffness))
-    cols = [ColumnInput(c.global_id, c.section, book.get(c.material).e_pa)
-            for s in storeys for c in s.columns if c.section is not None and c.section.area > 0]
+    cols = [c for s in storeys for c in s.columns if c.section is not None and memo.area(c, c.section) > 0]
     report = None
     if cols:
-        wall_shapes = [w.footprint for s in storeys for w in s.walls if w.footprint is not None]
-        walls_union = memo.walls_union(wall_shapes)
+        e_cols = [memo.material(book, c.material).e_pa for c in cols]
+        signature = tuple((memo.wkb(c, c.section), float(e)) for c, e in zip(cols, e_cols))
+        walls_union = memo.walls_union([w for s in storeys for w in s.walls if w.footprint is not None])
         top = memo.slab_field(layout, j, book)
         bottom = memo.slab_field(layout, j - 1, book) if j > 0 else None
         name = " + ".join(s.name for s in storeys)
-        springs, report, notes = column_springs(
-            cols, level_index=j, storey=name, length_m=f.height_m, top=top, bottom=bottom, fixed_base=(j == 0),
+        seg, report, notes = column_frame(
+            lambda: [ColumnInput(c.global_id, c.section, e) for c, e in zip(cols, e_cols)], signature=signature,
+            level_index=j, storey=name, length_m=f.height_m, top=top, bottom=bottom, fixed_base=(j == 0),
             walls=walls_union, stiffness=stiffness, cache=memo.springs)
         warnings.extend(notes)
-        seg = frame_segment(springs, j, f.height_m)
         if seg is not None:
             segs.append(seg)
     return segs, report
@@ -264,7 +311,7 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
     restraint: list[RestraintReport] = []
     own: list[bool] = []
     per_level: list[list[Segment]] = []
-    memo = _Memo(layout)
+    memo = _Memo(layout, book)
     for j, f in enumerate(layout.floors):
         segs, rep = _storey_segments(layout, j, f.segment_storeys, systems, book, stiff, warnings, memo)
         per_level.append(segs)

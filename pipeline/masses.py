@@ -54,7 +54,7 @@ from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_shares
 from .materials import MaterialBook
-from .plan_moments import MassMoments, area_moments, area_moments_many, outline_moments, polygons_of
+from .plan_moments import MassMoments, area_moments, area_moments_array, outline_moments, polygons_of
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -106,8 +106,8 @@ def _filled(shape: BaseGeometry | None) -> BaseGeometry | None:
     return unary_union([Polygon(p.exterior) for p in polys])
 
 
-def opening_footprint(wall: Wall, start_m: float, end_m: float) -> Polygon | None:
-    """Plan rectangle of the part of ``wall`` between ``start_m`` and ``end_m`` along its axis."""
+def _opening_corners(wall: Wall, start_m: float, end_m: float) -> list[tuple[float, float]] | None:
+    """The four plan corners of :func:`opening_footprint` (None when it has none)."""
     (x0, y0), (x1, y1) = wall.axis_m
     length = ((x1 - x0) ** 2 + (y1 - y0) ** 2) ** 0.5
     if length <= 0:
@@ -118,7 +118,13 @@ def opening_footprint(wall: Wall, start_m: float, end_m: float) -> Polygon | Non
     ux, uy = (x1 - x0) / length, (y1 - y0) / length
     nx, ny = -uy * wall.thickness_m / 2, ux * wall.thickness_m / 2
     p, q = (x0 + ux * a, y0 + uy * a), (x0 + ux * b, y0 + uy * b)
-    return Polygon([(p[0] - nx, p[1] - ny), (q[0] - nx, q[1] - ny), (q[0] + nx, q[1] + ny), (p[0] + nx, p[1] + ny)])
+    return [(p[0] - nx, p[1] - ny), (q[0] - nx, q[1] - ny), (q[0] + nx, q[1] + ny), (p[0] + nx, p[1] + ny)]
+
+
+def opening_footprint(wall: Wall, start_m: float, end_m: float) -> Polygon | None:
+    """Plan rectangle of the part of ``wall`` between ``start_m`` and ``end_m`` along its axis."""
+    corners = _opening_corners(wall, start_m, end_m)
+    return Polygon(corners) if corners is not None else None
 
 
 def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
@@ -157,65 +163,156 @@ class _Shares:
         return got
 
 
+def _geometries(shapes: Sequence[BaseGeometry | None]) -> np.ndarray:
+    arr = np.empty(len(shapes), dtype=object)
+    arr[:] = shapes
+    return arr
+
+
+def _moments_table(shapes: Sequence[BaseGeometry], ref: tuple[float, float]) -> np.ndarray:
+    """:func:`~swayscreen.pipeline.plan_moments.area_moments_array` of ``shapes``, computed once
+    per distinct shape (equal WKB bytes: equal coordinates, equal numbers); storeys of a tower
+    repeat the same footprints."""
+    if not shapes:
+        return np.zeros((0, 6))
+    keys: dict[bytes, int] = {}
+    inverse = [keys.setdefault(b, len(keys)) for b in shapely.to_wkb(_geometries(shapes)).tolist()]
+    first: dict[int, BaseGeometry] = {}
+    for k, g in zip(inverse, shapes):
+        first.setdefault(k, g)
+    return area_moments_array([first[k] for k in range(len(keys))], ref)[np.array(inverse, dtype=np.intp)]
+
+
+def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.ndarray, z0: list[float],
+            z1: list[float], shares: _Shares) -> list[MassMoments]:
+    """Item ``k`` (mass ``mass_kg[k]`` spread over the plan region of moments ``table[k]``, over
+    the height z0[k]..z1[k]) lumped onto ``n`` floors by :func:`vertical_shares`.
+
+    The same numbers, term by term and in the same order, as calling
+    :meth:`~swayscreen.pipeline.plan_moments.MassMoments.add_moments` item by item and share
+    by share (``np.bincount`` accumulates in index order; zero masses are skipped as
+    ``add_moments`` does)."""
+    out = [MassMoments(ref) for _ in range(n)]
+    if not len(mass_kg):
+        return out
+    keys: dict[tuple[float, float], int] = {}
+    group = np.array([keys.setdefault(k, len(keys)) for k in zip(z0, z1)], dtype=np.intp)
+    floors: list[int] = []
+    fracs: list[float] = []
+    counts: list[int] = []
+    for k in keys:
+        got = shares(*k)
+        counts.append(len(got))
+        for i, f in got:
+            floors.append(i)
+            fracs.append(f)
+    count = np.array(counts, dtype=np.intp)
+    offset = np.concatenate(([0], np.cumsum(count)[:-1])).astype(np.intp)
+    per_item = count[group]
+    item = np.repeat(np.arange(len(group)), per_item)  # items in order, each over its shares in order
+    start = np.repeat(np.cumsum(per_item) - per_item, per_item)
+    entry = offset[group][item] + (np.arange(len(item)) - start)
+    floor = np.array(floors, dtype=np.intp)[entry]
+    mass = mass_kg[item] * np.array(fracs, dtype=float)[entry]
+    keep = mass != 0.0
+    mass, floor, mom = mass[keep], floor[keep], table[item[keep]]
+    if np.any(mom[:, 0] <= 0.0):
+        raise ValueError("cannot spread a mass over a region of zero size")
+    f = mass / mom[:, 0]
+    sums = [np.bincount(floor, weights=w, minlength=n).tolist()
+            for w in (mass, f * mom[:, 1], f * mom[:, 2], f * (mom[:, 3] + mom[:, 4]))]
+    for i, acc in enumerate(out):
+        acc.m, acc.mx, acc.my, acc.mr2 = sums[0][i], sums[1][i], sums[2][i], sums[3][i]
+    return out
+
+
 def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
               warnings: list[str]) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
     nodes = layout.nodes_m
     shares = _Shares(nodes)
     n = len(layout.floors)
-    walls = [MassMoments(ref) for _ in range(n)]
-    cols = [MassMoments(ref) for _ in range(n)]
     loose = [MassMoments(ref) for _ in range(n)]
+    isfinite = math.isfinite
     skipped = 0
     partitions: list[float] = []
-    # plan moments of every wall, opening hole and column in one vectorised pass each
+    # plan areas, emptiness and moments of every wall, opening hole and column in one
+    # vectorised pass each; the element loops only collect numbers
+    fps = _geometries([w.footprint for w in layout.walls])
+    empty = shapely.is_empty(fps).tolist()
+    areas = shapely.area(fps).tolist()
     kept_walls = []
-    for w in layout.walls:
+    for k, w in enumerate(layout.walls):
         if w.load_bearing is False or (w.load_bearing is None and 0 < w.thickness_m < PARTITION_MAX_THICKNESS_M):
             partitions.append(w.plan_area_m2 * w.height_m)
             continue
         mat = book.get(w.material, "walls")
-        if not (_finite(w.height_m, w.base_elevation_m) and w.height_m > 0 and w.footprint is not None
-                and not w.footprint.is_empty and w.footprint.area > 0):
+        h = w.height_m
+        if not (isfinite(h) and isfinite(w.base_elevation_m) and h > 0 and w.footprint is not None
+                and not empty[k] and areas[k] > 0):
             skipped += 1
             continue
-        kept_walls.append((w, mat))
-    holes = []
-    for w, mat in kept_walls:
+        kept_walls.append((w, mat, areas[k]))
+    # items in lumping order: each wall, then its opening holes (negative mass)
+    prints: list[BaseGeometry] = []
+    holes: list[list[tuple[float, float]]] = []
+    hole_of: list[int] = []  # item index of each hole
+    hole_z: list[tuple[float, float, float]] = []  # (wall base, sill, head)
+    item_mass: list[float] = []  # walls: mass; holes: density (mass set from the hole's area below)
+    z0: list[float] = []
+    z1: list[float] = []
+    for w, mat, area in kept_walls:
+        base, h, rho = w.base_elevation_m, w.height_m, mat.density_kg_m3
+        prints.append(w.footprint)
+        item_mass.append(area * h * rho)
+        z0.append(base)
+        z1.append(w.top_elevation_m)
         for op in w.openings:
-            if not _finite(op.start_m, op.end_m, op.sill_m, op.head_m):
+            if not (isfinite(op.start_m) and isfinite(op.end_m) and isfinite(op.sill_m) and isfinite(op.head_m)):
                 continue
-            hole = opening_footprint(w, op.start_m, op.end_m)
-            sill, head = max(0.0, op.sill_m), min(w.height_m, op.head_m)
-            if hole is None or head <= sill:
+            corners = _opening_corners(w, op.start_m, op.end_m)
+            sill, head = max(0.0, op.sill_m), min(h, op.head_m)
+            if corners is None or head <= sill:
                 continue
-            holes.append((w, mat, hole, sill, head))
-    wall_moms = area_moments_many([w.footprint for w, _ in kept_walls], ref)
-    hole_moms = area_moments_many([h[2] for h in holes], ref)
-    k = 0
-    for (w, mat), mom in zip(kept_walls, wall_moms):
-        m = w.footprint.area * w.height_m * mat.density_kg_m3
-        for i, f in shares(w.base_elevation_m, w.top_elevation_m):
-            walls[i].add_moments(m * f, mom)
-        while k < len(holes) and holes[k][0] is w:
-            _, _, hole, sill, head = holes[k]
-            hmom = hole_moms[k]
-            k += 1
-            mh = hole.area * (head - sill) * mat.density_kg_m3
-            z0 = w.base_elevation_m + sill
-            for i, f in shares(z0, w.base_elevation_m + head):
-                walls[i].add_moments(-mh * f, hmom)
-    kept_cols = []
-    for c in layout.columns:
+            holes.append(corners)
+            hole_of.append(len(item_mass))
+            item_mass.append(rho)
+            z0.append(base + sill)
+            z1.append(base + head)
+            hole_z.append((sill, head))
+    walls = [MassMoments(ref) for _ in range(n)]
+    if item_mass:
+        masses = np.array(item_mass, dtype=float)
+        table = np.zeros((len(item_mass), 6))
+        idx = np.array(hole_of, dtype=np.intp)
+        is_wall = np.ones(len(item_mass), dtype=bool)
+        is_wall[idx] = False
+        table[is_wall] = _moments_table(prints, ref)
+        if holes:
+            # opening holes repeat over the storeys: one polygon per distinct rectangle
+            keys: dict[tuple, int] = {}
+            inverse = np.array([keys.setdefault(tuple(c), len(keys)) for c in holes], dtype=np.intp)
+            unique = shapely.polygons(np.array(list(keys), dtype=float))
+            sill_head = np.array(hole_z, dtype=float)
+            masses[idx] = -(shapely.area(unique)[inverse] * (sill_head[:, 1] - sill_head[:, 0]) * masses[idx])
+            table[idx] = area_moments_array(list(unique), ref)[inverse]
+        walls = _lumped(n, ref, table, masses, z0, z1, shares)
+    secs = _geometries([c.section for c in layout.columns])
+    empty = shapely.is_empty(secs).tolist()
+    areas = shapely.area(secs).tolist()
+    kept_cols: list[BaseGeometry] = []
+    item_mass, z0, z1 = [], [], []
+    for k, c in enumerate(layout.columns):
         mat = book.get(c.material, "columns")
-        if not (_finite(c.height_m, c.base_elevation_m) and c.height_m > 0 and c.section is not None
-                and not c.section.is_empty and c.section.area > 0):
+        h = c.height_m
+        if not (isfinite(h) and isfinite(c.base_elevation_m) and h > 0 and c.section is not None
+                and not empty[k] and areas[k] > 0):
             skipped += 1
             continue
-        kept_cols.append((c, mat))
-    for (c, mat), mom in zip(kept_cols, area_moments_many([c.section for c, _ in kept_cols], ref)):
-        m = c.section.area * c.height_m * mat.density_kg_m3
-        for i, f in shares(c.base_elevation_m, c.top_elevation_m):
-            cols[i].add_moments(m * f, mom)
+        kept_cols.append(c.section)
+        item_mass.append(areas[k] * h * mat.density_kg_m3)
+        z0.append(c.base_elevation_m)
+        z1.append(c.top_elevation_m)
+    cols = _lumped(n, ref, _moments_table(kept_cols, ref), np.array(item_mass, dtype=float), z0, z1, shares)
     for sl in layout.loose_slabs:
         mat = book.get(sl.material, "slabs")
         if sl.footprint.is_empty or sl.area_m2 <= 0:

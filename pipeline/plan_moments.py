@@ -23,7 +23,8 @@ from shapely.geometry import GeometryCollection, LinearRing, MultiPolygon, Polyg
 from shapely.geometry.base import BaseGeometry
 from shapely.geometry.polygon import orient
 
-__all__ = ["AreaMoments", "polygons_of", "area_moments", "area_moments_many", "outline_moments", "MassMoments"]
+__all__ = ["AreaMoments", "polygons_of", "area_moments", "area_moments_many", "area_moments_array", "outline_moments",
+           "MassMoments"]
 
 
 @dataclass(frozen=True)
@@ -126,11 +127,22 @@ def area_moments_many(shapes: Sequence[BaseGeometry | None], ref: tuple[float, f
     each result equals ``area_moments(shape, ref)``. Shapes that are not a Polygon or
     MultiPolygon (None, collections) take the scalar path.
     """
-    out = [_ZERO] * len(shapes)
-    fast = [i for i, g in enumerate(shapes) if isinstance(g, (Polygon, MultiPolygon)) and not g.is_empty]
+    table = area_moments_array(shapes, ref)
+    return [AreaMoments(*row) for row in table.tolist()]
+
+
+def area_moments_array(shapes: Sequence[BaseGeometry | None], ref: tuple[float, float] = (0.0, 0.0)
+                       ) -> np.ndarray:
+    """:func:`area_moments_many` as an array: one row (a, sx, sy, ixx, iyy, ixy) per shape
+    (m-based units; zeros for None and empty shapes), bit for bit the same numbers."""
+    out = np.zeros((len(shapes), 6))
+    fast = []
     for i, g in enumerate(shapes):
-        if g is not None and not isinstance(g, (Polygon, MultiPolygon)):
-            out[i] = area_moments(g, ref)
+        if isinstance(g, (Polygon, MultiPolygon)):
+            fast.append(i)
+        elif g is not None:
+            m = area_moments(g, ref)
+            out[i] = (m.a, m.sx, m.sy, m.ixx, m.iyy, m.ixy)
     if not fast:
         return out
     geoms = np.empty(len(fast), dtype=object)
@@ -155,8 +167,7 @@ def area_moments_many(shapes: Sequence[BaseGeometry | None], ref: tuple[float, f
     # rings in order (exterior, holes; part by part), added to 0 one after the other as area_moments does
     per_shape = np.column_stack([np.bincount(shape_of_ring, weights=per_ring[:, k], minlength=len(shapes))
                                  for k in range(6)])
-    for i in fast:
-        out[i] = AreaMoments(*(float(v) for v in per_shape[i]))
+    out[fast] = per_shape[fast]
     return out
 
 

@@ -56,7 +56,7 @@ from __future__ import annotations
 
 import math
 import statistics
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Protocol
 
@@ -83,6 +83,7 @@ __all__ = [
     "ColumnSpring",
     "RestraintReport",
     "column_springs",
+    "column_frame",
     "frame_segment",
     "storey_stiffness_centre",
 ]
@@ -304,34 +305,115 @@ def column_springs(columns: Sequence[ColumnInput], *, level_index: int, storey: 
     Returns:
         (springs, report or None when there are no columns, notes).
     """
-    if cache is None:
-        geo = _column_geometry(columns, top, bottom, fixed_base, walls, stiffness)
+    kept, values, stats, notes, _ = _column_work(columns, None, top=top, bottom=bottom, fixed_base=fixed_base,
+                                                 walls=walls, stiffness=stiffness, length_m=length_m, storey=storey,
+                                                 cache=cache)
+    if not kept:
+        return [], None, notes
+    springs = [ColumnSpring(columns[i].global_id, *v) for i, v in zip(kept, values)]
+    return springs, RestraintReport(level_index, storey, len(springs), *stats), notes
+
+
+def column_frame(columns: Sequence[ColumnInput] | Callable[[], Sequence[ColumnInput]], *, signature: tuple | None = None,
+                 level_index: int, storey: str, length_m: float, top: SlabField | None, bottom: SlabField | None,
+                 fixed_base: bool, walls: BaseGeometry | None, stiffness: StiffnessSettings, cache: dict | None = None
+                 ) -> tuple[Segment | None, RestraintReport | None, list[str]]:
+    """``frame_segment(column_springs(...))`` in one step: the storey's columns as one frame
+    Segment ("columns"), the restraint report and the notes, the same numbers as the two calls.
+
+    Args:
+        columns: as for :func:`column_springs`, or a function returning them (called only
+            when ``cache`` has not met these columns before).
+        signature: with ``columns`` a function, what :func:`column_springs` would key the
+            cache on: a tuple of (section WKB bytes, E Pa) per column, in order.
+        Other arguments as for :func:`column_springs`. With ``cache``, storeys with the same
+        columns, slabs, walls, height and settings reuse the springs' sums as well.
+    """
+    kept, values, stats, notes, entry = _column_work(columns, signature, top=top, bottom=bottom,
+                                                     fixed_base=fixed_base, walls=walls, stiffness=stiffness,
+                                                     length_m=length_m, storey=storey, cache=cache)
+    if not kept:
+        return None, None, notes
+    report = RestraintReport(level_index, storey, len(kept), *stats)
+    if entry is None:
+        sums = _frame_sums(values)
     else:
-        sections = np.empty(len(columns), dtype=object)
-        sections[:] = [c.section for c in columns]
-        key = (tuple(zip(shapely.to_wkb(sections).tolist(), (float(c.e_pa) for c in columns))), id(top), id(bottom),
-               bool(fixed_base), id(walls), stiffness)
+        if entry[2] is None:
+            entry[2] = (_frame_sums(values),)
+        sums = entry[2][0]
+    if sums is None:
+        return None, report, notes
+    kx, ky, xc, yc, kt = sums
+    seg = Segment(system_id="columns", kind="frame", level_index=level_index, length_m=length_m,
+                  centre_m=(xc, yc), k_x_n_m=kx, k_y_n_m=ky, k_twist_nm_rad=kt)
+    return seg, report, notes
+
+
+def _column_work(columns: Sequence[ColumnInput] | Callable[[], Sequence[ColumnInput]], signature: tuple | None, *,
+                 top: SlabField | None, bottom: SlabField | None, fixed_base: bool, walls: BaseGeometry | None,
+                 stiffness: StiffnessSettings, length_m: float, storey: str, cache: dict | None
+                 ) -> tuple[tuple[int, ...], tuple[tuple, ...], tuple, list[str], list | None]:
+    """(indices of the columns kept, per kept column (centre, k_x, k_y, a_x, a_y, h), the report's
+    (method, a_x mean, min, max, a_y mean, min, max), notes, the cache entry of these springs or
+    None) of :func:`column_springs`."""
+    got = None
+    if cache is None:
+        cols = columns() if callable(columns) else columns
+        geo = _column_geometry(cols, top, bottom, fixed_base, walls, stiffness)
+        core = _column_values(geo, length_m, top, fixed_base, stiffness)
+        stats = _restraint_stats(core)
+    else:
+        if signature is None:
+            cols = columns() if callable(columns) else columns
+            sections = np.empty(len(cols), dtype=object)
+            sections[:] = [c.section for c in cols]
+            signature = tuple(zip(shapely.to_wkb(sections).tolist(), (float(c.e_pa) for c in cols)))
+        key = (signature, id(top), id(bottom), bool(fixed_base), id(walls), stiffness)
         hit = cache.get(key)
         if hit is None:
-            geo = _column_geometry(columns, top, bottom, fixed_base, walls, stiffness)
-            cache[key] = (geo, (top, bottom, walls))  # holding the objects keeps their ids unique
-        else:
-            geo = hit[0]
-    core = _column_values(geo, length_m, top, fixed_base, stiffness)
-    kept, n_inside, no_slab, method, values = core
+            cols = columns() if callable(columns) else columns
+            geo = _column_geometry(cols, top, bottom, fixed_base, walls, stiffness)
+            # holding the objects keeps their ids unique; the dict holds the springs per storey height
+            cache[key] = hit = (geo, (top, bottom, walls), {})
+        geo, by_height = hit[0], hit[2]
+        # the springs depend on the plan work, the storey height and the settings (in the key) only
+        got = by_height.get(float(length_m))
+        if got is None:
+            core = _column_values(geo, length_m, top, fixed_base, stiffness)
+            got = by_height[float(length_m)] = [core, _restraint_stats(core), None]
+        core, stats = got[0], got[1]
+    kept, n_inside, no_slab, _, values = core
     notes: list[str] = []
     if n_inside:
         notes.append(f"{storey}: {n_inside} column(s) inside walls count as part of the wall")
     if not kept:
-        return [], None, notes
+        return (), (), (), notes, got
     if no_slab:
         notes.append(f"{storey}: no slab to derive the column end restraint; a = {NO_SLAB_RESTRAINT:g} assumed")
-    springs = [ColumnSpring(columns[i].global_id, *v) for i, v in zip(kept, values)]
-    ax = [s.a_x for s in springs]
-    ay = [s.a_y for s in springs]
-    report = RestraintReport(level_index, storey, len(springs), method, statistics.fmean(ax), min(ax), max(ax),
-                             statistics.fmean(ay), min(ay), max(ay))
-    return springs, report, notes
+    return kept, values, stats, notes, got
+
+
+def _restraint_stats(core: tuple) -> tuple:
+    """(method, a_x mean, min, max, a_y mean, min, max) over the kept columns of ``core`` (() when none)."""
+    kept, _, _, method, values = core
+    if not kept:
+        return ()
+    ax = [v[3] for v in values]
+    ay = [v[4] for v in values]
+    return (method, statistics.fmean(ax), min(ax), max(ax), statistics.fmean(ay), min(ay), max(ay))
+
+
+def _frame_sums(values: Sequence[tuple]) -> tuple[float, float, float, float, float] | None:
+    """(k_x, k_y, x_c, y_c, k_twist) of :func:`frame_segment` from the springs' values
+    ((x, y), k_x, k_y, ...); None when either total is not positive."""
+    kx = sum(v[1] for v in values)
+    ky = sum(v[2] for v in values)
+    if kx <= 0 or ky <= 0:
+        return None
+    xc = sum(v[2] * v[0][0] for v in values) / ky
+    yc = sum(v[1] * v[0][1] for v in values) / kx
+    kt = sum(v[1] * (v[0][1] - yc) ** 2 + v[2] * (v[0][0] - xc) ** 2 for v in values)
+    return kx, ky, xc, yc, kt
 
 
 def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bottom: SlabField | None,
