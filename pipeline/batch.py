@@ -39,7 +39,9 @@ def screen_one(model: str, settings_path: str | None, out_dir: str) -> BatchItem
     from .summary import build_summary
 
     try:
-        run = screen_file(model, settings_path)
+        # the reader's parse is reused by the write-back and released by it; only plain data
+        # (BatchItem) leaves this process
+        run = screen_file(model, settings_path, keep_source=True)
         folder = Path(out_dir) / Path(model).stem
         write_outputs(run, folder)
         summary = build_summary(run)

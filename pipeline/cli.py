@@ -52,6 +52,8 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--settings", metavar="FILE", help="settings TOML (see `swayscreen settings`)")
     s.add_argument("--json", action="store_true", help="print a JSON summary to stdout")
     s.add_argument("--out", metavar="DIR", help="write annotated IFC, report, summary and BCF to DIR")
+    s.add_argument("--no-report", action="store_true",
+                   help="with --out: write everything except the HTML report (annotated IFC, summary, BCF)")
     s.add_argument("--history", metavar="FILE", help="append key figures to FILE and show the change since the last run")
 
     sub.add_parser("settings", help="print the commented default settings file")

@@ -81,14 +81,19 @@ def cmd_takeoff(args) -> int:
 
 def cmd_screen(args) -> int:
     from .console import screening_text
+    from .errors import InputError
     from .screening import screen_file
 
-    run = screen_file(args.model, args.settings)
+    no_report = args.no_report
+    if no_report and not args.out:
+        raise InputError("--no-report applies to the files written with --out DIR; give --out as well")
+    # With --out the reader's parse is kept for the write-back (released once it is written).
+    run = screen_file(args.model, args.settings, keep_source=bool(args.out))
     out_paths = None
     if args.out:
         from .outputs import write_outputs
 
-        out_paths = write_outputs(run, Path(args.out))
+        out_paths = write_outputs(run, Path(args.out), report=not no_report)
     history_lines: list[str] = []
     if args.history:
         from .history import append_history
@@ -123,7 +128,7 @@ def cmd_demo(args) -> int:
     print(f"Demo: screening the bundled sample model {model.name} (an invented 60-storey residential tower)")
     print(f"with the example settings {settings.name} (an invented windy waterfront site).")
     print()
-    run = screen_file(model, settings)
+    run = screen_file(model, settings, keep_source=True)
     out = Path(args.out).resolve()
     paths = write_outputs(run, out)
     print(screening_text(run))

@@ -1,15 +1,19 @@
 """Write every output of a screening run into a folder.
 
-``DIR/<model>-annotated.ifc`` (a copy of the model with our property sets), ``DIR/report.html``,
-``DIR/summary.json`` and, when anything is flagged, ``DIR/issues.bcfzip``. The input model is
-only read.
+``DIR/<model>-annotated.ifc`` (a copy of the model with our property sets), ``DIR/report.html``
+(left out with ``report=False``, the CLI's ``--no-report``), ``DIR/summary.json`` and, when
+anything is flagged, ``DIR/issues.bcfzip``. The input model is only read. When the run carries
+the reader's open file (``screen_file(..., keep_source=True)``), the write-back plans on it
+instead of parsing the model again, and the run lets go of it once the copy is written.
 
 Nothing partial is left by an interrupted run: everything slow (the report with its plots,
 the summary, the BCF archive and the annotated copy) is produced first, each file under a
 temporary name beside its final one (``.<name>.<random>.part``); only then are they all
 renamed into place (``os.replace``, atomic on one file system), with Ctrl-C held back for
 those few renames. An interruption before that point removes the temporary files and
-leaves the folder as it was.
+leaves the folder as it was. Files of an earlier run that this run does not write (the BCF
+archive of a scheme no longer flagged, the report of a run without one) are removed in that
+same step, so the folder never mixes two runs.
 
 Objects whose takeoff id holds a ``#`` or ``/`` (a floor with no storey of its own, a floor
 split off a storey, the second of two entities sharing one GlobalId) get no property sets; numbers that are not finite
@@ -216,61 +220,81 @@ def bcf_topics(run) -> list:
     return topics
 
 
-def write_outputs(run, out_dir: Path, *, when: datetime | None = None) -> dict[str, Path]:
-    """Write annotated IFC, report, summary and (when flagged) BCF; return their paths.
+def write_outputs(run, out_dir: Path, *, when: datetime | None = None, report: bool = True) -> dict[str, Path]:
+    """Write annotated IFC, report (unless ``report=False``), summary and (when flagged) BCF;
+    return their paths.
 
     All files are produced under temporary names first and renamed into place together at
     the end (see the module docstring), so an interruption leaves either the complete new
-    set or the folder as it was, and never a temporary file.
+    set or the folder as it was, and never a temporary file. ``run.source`` (the reader's open
+    file, when the run kept it) is handed to the write-back and released once the annotated
+    copy is written, or when anything fails.
     """
     from .bcf import write_bcfzip
-    from .report import render_report
     from .summary import build_summary
     from .writing import write_annotated
 
-    when = when or datetime.now(timezone.utc)
-    out_dir = Path(out_dir)
-    src = Path(run.takeoff.source_path)
-    ifc_out = out_dir / f"{src.stem}-annotated.ifc"
-    if ifc_out.resolve() == src.resolve():
-        from .errors import InputError
-
-        raise InputError(f"{ifc_out}: the output would overwrite the input model; choose another --out folder")
-    bcf_path = out_dir / "issues.bcfzip"
-    paths: dict[str, Path] = {"annotated model": ifc_out, "summary": out_dir / "summary.json",
-                              "report": out_dir / "report.html"}
-    # in memory first: everything slow that needs no file
-    annotations = annotations_for(run, when=when)
-    summary_text = json.dumps(build_summary(run, when=when), indent=2) + "\n"
-    report_html = render_report(run, when=when)
-    topics = bcf_topics(run)
-    if topics:
-        paths["BCF topics"] = bcf_path
-
-    out_dir.mkdir(parents=True, exist_ok=True)
-    staged: list[tuple[Path, Path]] = []
     try:
-        tmp = temp_beside(ifc_out)
-        staged.append((tmp, ifc_out))
-        write_annotated(src, tmp, annotations, owner_prefix=PSET_PREFIX)
-        for text, final in ((summary_text, paths["summary"]), (report_html, paths["report"])):
-            tmp = temp_beside(final)
-            staged.append((tmp, final))
-            tmp.write_bytes(text.encode("utf-8", "replace"))  # names from damaged files may hold lone surrogates
+        when = when or datetime.now(timezone.utc)
+        out_dir = Path(out_dir)
+        src = Path(run.takeoff.source_path)
+        ifc_out = out_dir / f"{src.stem}-annotated.ifc"
+        if ifc_out.resolve() == src.resolve():
+            from .errors import InputError
+
+            raise InputError(f"{ifc_out}: the output would overwrite the input model; choose another --out folder")
+        bcf_path = out_dir / "issues.bcfzip"
+        report_path = out_dir / "report.html"
+        paths: dict[str, Path] = {"annotated model": ifc_out, "summary": out_dir / "summary.json"}
+        # in memory first: everything slow that needs no file
+        annotations = annotations_for(run, when=when)
+        texts = [(json.dumps(build_summary(run, when=when), indent=2) + "\n", paths["summary"])]
+        if report:
+            from .report import render_report
+
+            paths["report"] = report_path
+            texts.append((render_report(run, when=when), report_path))
+        topics = bcf_topics(run)
         if topics:
-            tmp = temp_beside(bcf_path)
-            staged.append((tmp, bcf_path))
-            write_bcfzip(tmp, topics, project_name=src.stem, date=when)
-        with _sigint_held():
-            for tmp, final in staged:
-                os.replace(tmp, final)
-            if not topics and bcf_path.exists():
-                bcf_path.unlink()  # a stale file from an earlier flagged run would mislead
-    except BaseException:
-        for tmp, _ in staged:
-            tmp.unlink(missing_ok=True)
-        raise
+            paths["BCF topics"] = bcf_path
+
+        out_dir.mkdir(parents=True, exist_ok=True)
+        staged: list[tuple[Path, Path]] = []
+        try:
+            tmp = temp_beside(ifc_out)
+            staged.append((tmp, ifc_out))
+            write_annotated(src, tmp, annotations, owner_prefix=PSET_PREFIX, source=getattr(run, "source", None))
+            _release_source(run)  # the parsed model is not needed any more
+            for text, final in texts:
+                tmp = temp_beside(final)
+                staged.append((tmp, final))
+                tmp.write_bytes(text.encode("utf-8", "replace"))  # names from damaged files may hold lone surrogates
+            if topics:
+                tmp = temp_beside(bcf_path)
+                staged.append((tmp, bcf_path))
+                write_bcfzip(tmp, topics, project_name=src.stem, date=when)
+            with _sigint_held():
+                for tmp, final in staged:
+                    os.replace(tmp, final)
+                # stale files of an earlier run would mislead: a BCF archive of a scheme no
+                # longer flagged, a report that no longer matches the annotated model
+                for stale, written in ((bcf_path, bool(topics)), (report_path, report)):
+                    if not written and stale.exists():
+                        stale.unlink()
+        except BaseException:
+            for tmp, _ in staged:
+                tmp.unlink(missing_ok=True)
+            raise
+    finally:
+        _release_source(run)
     return paths
+
+
+def _release_source(run) -> None:
+    """Drop the run's reference to the reader's open file (runs built without one have nothing to drop)."""
+    release = getattr(run, "release_source", None)
+    if release is not None:
+        release()
 
 
 @contextlib.contextmanager

@@ -1,7 +1,11 @@
 """The screening pipeline: read -> derive -> plugins -> assess, for every building in a file.
 
-Each arrow is a plain function over frozen dataclasses. Only :func:`read_model` touches
-the IFC file; writing outputs is separate (:mod:`.outputs`).
+Each arrow is a plain function over frozen dataclasses. Only the reader
+(:func:`~.reading.read_model_and_source`) touches the IFC file; writing outputs is separate
+(:mod:`.outputs`). When the outputs will be written, ``screen_file(..., keep_source=True)``
+keeps the reader's open file on the run (:attr:`ScreeningRun.source`) so that the write-back
+plans on it instead of parsing the file again; the write-back lets go of it
+(:meth:`ScreeningRun.release_source`) and it is never pickled.
 """
 from __future__ import annotations
 
@@ -16,7 +20,7 @@ from .assessment import Assessment, assess
 from .core_settings import CORE_SECTIONS
 from .deriving import DerivedModel, derive_stick
 from .plugin_api import Context
-from .reading import read_model
+from .reading import read_model_and_source
 from .registry import discover, order, settings_sections
 from .settings import Settings, load_settings
 from .takeoff import BuildingTakeoff, Takeoff
@@ -55,11 +59,36 @@ class BuildingScreening:
 
 @dataclass(frozen=True)
 class ScreeningRun:
+    """One screened file.
+
+    Attributes:
+        takeoff: what was read; settings: the settings used.
+        buildings: the screening of each building in the file.
+        plugins: the ordered plugins that ran.
+        timings_s: seconds per stage (for the benchmark).
+        source: the reader's :class:`~.reading.SourceFile` (the open IFC file, read-only) when
+            :func:`screen_file` was asked to keep it for the write-back, else None. Not part of
+            the run's value (no repr, no comparison), never pickled (a run sent to another
+            process arrives without it) and dropped by :meth:`release_source`.
+    """
+
     takeoff: Takeoff
     settings: Settings
     buildings: tuple[BuildingScreening, ...]
     plugins: tuple[Any, ...]
     timings_s: dict[str, float] = field(default_factory=dict)
+    source: Any = field(default=None, repr=False, compare=False)
+
+    def release_source(self) -> None:
+        """Let go of the open IFC file (it holds the parsed model: tens of MB on a large file).
+        The field is a cache outside the run's value, so clearing it on the frozen run is safe."""
+        object.__setattr__(self, "source", None)
+
+    def __getstate__(self) -> dict[str, Any]:
+        # The open ifcopenshell file cannot cross processes (and must not be copied): leave it out.
+        state = dict(self.__dict__)
+        state["source"] = None
+        return state
 
     @property
     def status(self) -> str:
@@ -146,17 +175,26 @@ def screen_file(
     *,
     plugins: Sequence[Any] | None = None,
     settings: Settings | None = None,
+    keep_source: bool = False,
 ) -> ScreeningRun:
-    """Read one IFC file and screen every building in it."""
+    """Read one IFC file and screen every building in it.
+
+    ``keep_source=True`` keeps the reader's open file on the run (:attr:`ScreeningRun.source`)
+    for :func:`~.outputs.write_outputs`, which then writes back without a second parse and
+    releases it; leave it False when no outputs will be written, so the parsed model is freed
+    as soon as the takeoff is read.
+    """
     timings: dict[str, float] = {}
     ordered, loaded = load_plugins_and_settings(settings_path, plugins)
     settings = settings or loaded
     t0 = time.perf_counter()
-    takeoff = read_model(path, settings["levels"])
+    takeoff, source = read_model_and_source(path, settings["levels"])
     timings["read"] = time.perf_counter() - t0
+    if not keep_source:
+        source = None
     buildings = tuple(screen_building(b, settings, ordered, true_north_deg=takeoff.true_north_deg)
                       for b in takeoff.buildings)
-    return ScreeningRun(takeoff, settings, buildings, tuple(ordered), timings)
+    return ScreeningRun(takeoff, settings, buildings, tuple(ordered), timings, source)
 
 
 def default_sections() -> dict[str, type]:

@@ -6,7 +6,10 @@ Two writers give the same property values:
   unchanged and appends the new instances before the ``ENDSEC;`` that closes the DATA section.
   Every original instance keeps its ``#id`` and its exact bytes (line endings included: LF, CRLF or
   the bare CR some exporters write). Cost: one lazy ``ifcopenshell.open`` to locate the targets and
-  any earlier sets of ours, plus one pass over the bytes.
+  any earlier sets of ours, plus one pass over the bytes. When the caller passes the reader's
+  :class:`~.reading.SourceFile` (``source=``) and the file is still the one that was parsed (same
+  path, size and modification time), its open model is used read-only instead and no second parse
+  is paid: on the 160-storey benchmark tower that is most of the write-back's time.
 * :func:`write_annotated_reserialise` is the plain reference: open the model, edit it with
   ``ifcopenshell.api.pset`` and re-serialise everything with ``file.write`` (about four times the
   cost of the open). Kept as the benchmark baseline and as a cross-check in the tests.
@@ -42,6 +45,16 @@ GlobalIds
     requires it unique; the parser reports it) gets its set on the first of them (lowest ``#id``)
     when that one can carry a property set, else on none; :attr:`WriteReport.notes` says which.
 
+Reusing the reader's parse
+    The reader's model is only looked at (``by_guid``, ``by_id``, ``by_type``, inverses, units),
+    never edited. The parser's log of that open, which named the GlobalIds the file repeats, was
+    read by the reader, so the writer finds repeated target GlobalIds from the bytes instead: a
+    GlobalId (22 characters of ``0-9A-Za-z_$``, ISO 16739-1 IfcGloballyUniqueId) is a string of
+    the basic alphabet and so appears literally, quoted, in the file (ISO 10303-21 clause 6.4.3);
+    a target quoted more than once is looked up among all rooted entities, as after a fresh open.
+    The file's size and modification time are checked again after the copy: a source changed
+    while it was being copied is an error, never a mixed copy.
+
 Owner history
     IFC2X3 requires ``OwnerHistory`` on every IfcRoot: the file's first ``IfcOwnerHistory`` (lowest
     id) is reused; if there is none (an already invalid IFC2X3 file) a minimal one is created and
@@ -64,6 +77,8 @@ Measures the schema lacks
 """
 from __future__ import annotations
 
+import base64
+import hashlib
 import math
 import mmap
 import os
@@ -156,7 +171,8 @@ class WriteReport:
     ``psets_replaced`` counts our earlier sets found in the source and removed;
     ``instances_removed`` every instance dropped with them (sets, relations, properties);
     ``instances_added`` every new instance (``first_new_id`` is the lowest new ``#id``, 0 if none);
-    ``validation_errors`` is None unless validation was asked for.
+    ``validation_errors`` is None unless validation was asked for; ``reused_parse`` is True when
+    the plan was made on the reader's open model (``source=``) rather than a new open.
     """
 
     dst: Path
@@ -171,6 +187,7 @@ class WriteReport:
     fallbacks: tuple[str, ...] = ()
     validation_errors: tuple[str, ...] | None = None
     notes: tuple[str, ...] = ()
+    reused_parse: bool = False
 
 
 # --------------------------------------------------------------------------- ISO 10303-21 values
@@ -194,6 +211,8 @@ def p21_string(text: str) -> str:
     ISO 10303-21:2002 clause 6.4.3.
     """
     escaped = text.replace("\\", "\\\\").replace("'", "''")
+    if escaped.isascii() and escaped.isprintable():  # all in 0x20-0x7E: nothing to encode
+        return "'" + escaped + "'"
     return "'" + _NOT_BASIC.sub(_encode_run, escaped) + "'"
 
 
@@ -231,6 +250,13 @@ class _Typed:
 
 
 def _p21_value(value: object) -> str:
+    kind = type(value)  # the common cases first, by exact type (bool is not int here)
+    if kind is str:
+        return p21_string(value)  # type: ignore[arg-type]
+    if kind is _Ref:
+        return f"#{value.id}"  # type: ignore[attr-defined]
+    if kind is _Typed:
+        return f"{value.type_name.upper()}({value.literal})"  # type: ignore[attr-defined]
     if value is None:
         return "$"
     if isinstance(value, _Ref):
@@ -322,6 +348,8 @@ class _Plan:
     properties_written: int
     fallbacks: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    source_stat: tuple[int, int] | None = None  # (size, mtime_ns) of the source the plan was made on
+    reused_parse: bool = False
 
 
 _NON_UNIQUE = re.compile(r"non-unique GlobalId (\S+)")
@@ -340,19 +368,78 @@ def _open(src: Path, *, lazy: bool):
     return model
 
 
+def _stat_key(path: Path) -> tuple[int, int] | None:
+    """(size in bytes, modification time in ns) of ``path``, None when it cannot be read."""
+    try:
+        st = path.stat()
+    except OSError:
+        return None
+    return st.st_size, st.st_mtime_ns
+
+
+def _reusable(source, src: Path) -> bool:
+    """True when ``source`` (the reader's :class:`~.reading.SourceFile`) holds an open model of
+    ``src`` as the file is on disk now (same file, same size and modification time)."""
+    if source is None or getattr(source, "model", None) is None:
+        return False
+    return _same_file(Path(source.path), src) and source.unchanged()
+
+
+# IfcGloballyUniqueId: 22 characters of the base-64 alphabet 0-9 A-Z a-z _ $ (ISO 16739-1).
+_GUID = re.compile(r"[0-9A-Za-z_$]{22}")
+_QUOTED_GUID = re.compile(rb"'([0-9A-Za-z_$]{22})'")
+
+
+def _scan_global_ids(src: Path, targets: Iterable[str], ours: Iterable[str]) -> tuple[set[str], set[str]]:
+    """From the bytes of ``src``: the target GlobalIds that may name more than one entity, and
+    which of our new GlobalIds appear in the file at all.
+
+    The first set holds the targets quoted more than once in the file, and any target that is
+    not a well-formed GlobalId (it cannot be found that way): a superset of the GlobalIds the
+    parser reports as non-unique, because each entity writes its GlobalId as a string of the
+    basic alphabet, literally and quoted (ISO 10303-21 clause 6.4.3), so two entities sharing
+    one put it in the file twice. A GlobalId of ours that is nowhere in the file names no
+    entity, so it needs no lookup (a failed ``by_guid`` costs an exception). One C-level
+    regular-expression pass (about 0.05 s CPU on the 37 MB benchmark tower)."""
+    wanted: set[bytes] = set()
+    odd: set[str] = set()
+    for g in targets:
+        if _GUID.fullmatch(g):
+            wanted.add(g.encode("ascii"))
+        else:
+            odd.add(g)
+    mine = {g.encode("ascii") for g in ours}
+    seen: set[bytes] = set()
+    repeated: set[bytes] = set()
+    present: set[bytes] = set()
+    with open(src, "rb") as fh:
+        if os.fstat(fh.fileno()).st_size:
+            with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+                for g in _QUOTED_GUID.findall(mm):
+                    if g in wanted:
+                        if g in seen:
+                            repeated.add(g)
+                        seen.add(g)
+                    elif g in mine:
+                        present.add(g)
+    return {g.decode("ascii") for g in repeated} | odd, {g.decode("ascii") for g in present}
+
+
 class _Targets:
     """Finds the entity a GlobalId names; for a GlobalId the file repeats, the first of them.
 
-    Call right after :func:`_open`: the parser's log of that open names the repeated GlobalIds
-    (``by_guid`` alone would return an arbitrary one of them)."""
+    ``shared``: the GlobalIds that may name several entities. When None, call right after
+    :func:`_open`: the parser's log of that open names the repeated GlobalIds (``by_guid`` alone
+    would return an arbitrary one of them)."""
 
-    def __init__(self, model, schema) -> None:
+    def __init__(self, model, schema, shared: set[str] | None = None) -> None:
         import ifcopenshell
 
         self.model = model
         self.schema = schema
         self.notes: list[str] = []
-        shared = set(_NON_UNIQUE.findall(ifcopenshell.get_log()))
+        if shared is None:
+            shared = set(_NON_UNIQUE.findall(ifcopenshell.get_log()))
         self.shared: dict[str, list] = {}
         if shared:  # rare: only then is every rooted entity visited
             for e in model.by_type("IfcRoot"):
@@ -486,6 +573,7 @@ class _Builder:
         self.next_id = first_id
         self.lines: list[str] = []
         self._layouts: dict[str, tuple] = {}
+        self._shapes: dict[tuple[str, tuple[str, ...]], tuple] = {}
 
     def _layout(self, entity: str) -> tuple[tuple[str, ...], set[str], tuple[bool, ...], tuple[bool, ...]]:
         """Attribute names, their set, derived flags and optional flags of ``entity`` (cached)."""
@@ -498,34 +586,79 @@ class _Builder:
             self._layouts[entity] = got
         return got
 
-    def add(self, entity: str, **attrs: object) -> int:
+    def _shape(self, entity: str, given: tuple[str, ...]) -> tuple[str, list[str], tuple, tuple[bool, ...]]:
+        """For ``entity`` written with the attributes named ``given`` (cached per combination):
+        the keyword, the values of a line before filling in (``*`` for derived attributes, ``$``
+        for the others), the position of each given attribute (None for a derived one: its value
+        is ignored) and whether it may be unset. Raises for an unknown attribute or a required
+        one not given."""
+        key = (entity, given)
+        got = self._shapes.get(key)
+        if got is not None:
+            return got
         names, name_set, derived, optional = self._layout(entity)
         # IFC4X3 renamed IfcProperty.Description to Specification
-        if "Description" in attrs and "Description" not in name_set and "Specification" in name_set:
-            attrs["Specification"] = attrs.pop("Description")
-        unknown = set(attrs) - name_set
+        renamed = "Description" not in name_set and "Specification" in name_set
+        in_schema = tuple("Specification" if g == "Description" and renamed else g for g in given)
+        unknown = set(in_schema) - name_set
         if unknown:
             raise AssertionError(f"{entity} has no attribute(s) {sorted(unknown)} in {self.schema.name()}")
-        values = []
         for name, is_derived, is_optional in zip(names, derived, optional):
-            if is_derived:
-                values.append("*")
-                continue
-            v = attrs.get(name)
-            if v is None and not is_optional:
+            if not (is_derived or is_optional or name in in_schema):
                 raise AssertionError(f"{entity}.{name} is required in {self.schema.name()}")
-            values.append(_p21_value(v))
+        template = ["*" if d else "$" for d in derived]
+        slots = tuple(None if derived[names.index(g)] else names.index(g) for g in in_schema)
+        may_be_unset = tuple(optional[names.index(g)] for g in in_schema)
+        got = (entity.upper(), template, slots, may_be_unset)
+        self._shapes[key] = got
+        return got
+
+    def add(self, entity: str, **attrs: object) -> int:
+        keyword, template, slots, may_be_unset = self._shape(entity, tuple(attrs))
+        values = template.copy()
+        for slot, unset_ok, (name, v) in zip(slots, may_be_unset, attrs.items()):
+            if slot is None:  # derived: always written as *
+                continue
+            if v is None:
+                if not unset_ok:
+                    raise AssertionError(f"{entity}.{name} is required in {self.schema.name()}")
+            else:
+                values[slot] = _p21_value(v)
         iid = self.next_id
         self.next_id += 1
-        self.lines.append(f"#{iid}={entity.upper()}({','.join(values)});")
+        self.lines.append(f"#{iid}={keyword}({','.join(values)});")
         return iid
 
 
 def _deterministic_guid(target_gid: str, pset_name: str, what: str) -> str:
-    import ifcopenshell.guid
+    return _compress_guid(_uuid5_bytes(_GUID_NAMESPACE, f"{target_gid}|{pset_name}|{what}"))
 
-    u = uuid.uuid5(_GUID_NAMESPACE, f"{target_gid}|{pset_name}|{what}")
-    return ifcopenshell.guid.compress(u.hex)
+
+def _uuid5_bytes(namespace: uuid.UUID, name: str) -> bytes:
+    """The 16 bytes of ``uuid.uuid5(namespace, name)`` (RFC 4122 section 4.3: SHA-1 of the
+    namespace and the name, version 5 in the top 4 bits of octet 6, variant 10 in the top 2 bits
+    of octet 8), without building a UUID object (checked against ``uuid.uuid5`` in the tests)."""
+    h = bytearray(hashlib.sha1(namespace.bytes + name.encode("utf-8")).digest()[:16])
+    h[6] = (h[6] & 0x0F) | 0x50
+    h[8] = (h[8] & 0x3F) | 0x80
+    return bytes(h)
+
+
+# The IFC GlobalId alphabet, digit values 0..63 (ISO 16739-1, IfcGloballyUniqueId), as a
+# translation from the standard base-64 alphabet (RFC 4648, table 1) with the same digit values.
+_B64_TO_IFC = bytes.maketrans(
+    b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/",
+    b"0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz_$",
+)
+
+
+def _compress_guid(uuid_bytes: bytes) -> str:
+    """A 128-bit UUID as the 22-character IFC GlobalId: its base-64 digits, most significant
+    first (the first digit carries the top 2 bits). Two zero bytes in front make 144 bits, 24
+    standard base-64 digits of which the first two are zero; the IFC alphabet differs from the
+    standard one only in the characters. Same result as ``ifcopenshell.guid.compress`` (checked
+    in the tests), at C speed."""
+    return base64.b64encode(b"\0\0" + uuid_bytes).translate(_B64_TO_IFC)[2:].decode("ascii")
 
 
 _GUID_NAMESPACE = uuid.uuid5(uuid.NAMESPACE_URL, "urn:swayscreen:ifc-write-back")
@@ -611,17 +744,37 @@ def _owner_history(model, builder: _Builder | None, schema, src: Path) -> int | 
     )
 
 
+_RELATED_TYPE: dict[str, str] = {}  # schema name -> entity type RelatedObjects accepts
+
+
 def _related_object_ok(entity, schema) -> bool:
-    decl = schema.declaration_by_name("IfcRelDefinesByProperties")
-    attr = [a for a in decl.all_attributes() if a.name() == "RelatedObjects"][0]
-    allowed = attr.type_of_attribute().type_of_element().declared_type().name()
+    allowed = _RELATED_TYPE.get(schema.name())
+    if allowed is None:
+        decl = schema.declaration_by_name("IfcRelDefinesByProperties")
+        attr = [a for a in decl.all_attributes() if a.name() == "RelatedObjects"][0]
+        allowed = _RELATED_TYPE[schema.name()] = attr.type_of_attribute().type_of_element().declared_type().name()
     return entity.is_a(allowed) and not entity.is_a("IfcTypeObject")
 
 
-def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -> _Plan:
-    model = _open(src, lazy=True)
+def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, source=None) -> _Plan:
+    """What to drop and what to append; on the reader's open model when ``source`` still
+    describes ``src`` (see the module docstring), else on a lazy open of ``src``."""
+    new_gids = [(_deterministic_guid(a.global_id, a.pset_name, "IfcPropertySet"),
+                 _deterministic_guid(a.global_id, a.pset_name, "IfcRelDefinesByProperties")) for a in annotations]
+    reused = _reusable(source, src)
+    present: set[str] | None = None  # our GlobalIds found in the file; None: look each one up
+    if reused:
+        model = source.model  # read-only: nothing below edits it
+        stat: tuple[int, int] | None = (source.size_bytes, source.mtime_ns)
+        shared: set[str] | None
+        shared, present = _scan_global_ids(src, {a.global_id for a in annotations},
+                                           {g for pair in new_gids for g in pair})
+    else:
+        stat = _stat_key(src)  # before the open: a change from here on is caught after the copy
+        model = _open(src, lazy=True)
+        shared = None  # from the parser's log of this open
     schema = _schema(model)
-    targets = _Targets(model, schema)
+    targets = _Targets(model, schema, shared)
     leaves = _value_leaves(schema)
     drop, replaced = _find_ours(model, owner_prefix, src)
 
@@ -636,7 +789,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
     values = _Values(model, leaves)
     n_props = 0
     skipped = 0
-    for ann in annotations:
+    for ann, (pset_gid, rel_gid) in zip(annotations, new_gids):
         where = f"{src}: {ann.pset_name!r} on {ann.global_id!r}"
         target = targets.get(ann.global_id, where)
         if target is None:
@@ -644,9 +797,9 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
             continue
         if not _related_object_ok(target, schema):
             raise InputError(f"{where}: {target.is_a()} #{target.id()} cannot carry a property set by relation")
-        pset_gid = _deterministic_guid(ann.global_id, ann.pset_name, "IfcPropertySet")
-        rel_gid = _deterministic_guid(ann.global_id, ann.pset_name, "IfcRelDefinesByProperties")
         for gid in (pset_gid, rel_gid):
+            if present is not None and gid not in present:
+                continue
             try:
                 clash = model.by_guid(gid)
             except RuntimeError:
@@ -689,6 +842,8 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str) -
         properties_written=n_props,
         fallbacks=values.fallbacks,
         notes=targets.notes,
+        source_stat=stat,
+        reused_parse=reused,
     )
 
 
@@ -709,6 +864,7 @@ _STATEMENT = re.compile(
 _LEADING_EOL = re.compile(rb"^[ \t]*(\r\n|\r|\n)")
 _ANY_EOL = re.compile(rb"\r\n|\r|\n")
 _BLOCK = 1 << 22
+_COMMENT_OPEN = re.compile(rb"/\*")
 _FAST_COPY = True  # tests switch it off to compare with the statement scanner
 
 
@@ -804,7 +960,7 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
         if os.fstat(fh.fileno()).st_size == 0:
             return None
         with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
-            if mm.find(b"/*") >= 0:
+            if _COMMENT_OPEN.search(mm) is not None:  # (the regex engine scans 3x faster than find here)
                 return None
             end = len(mm)
             cut = None
@@ -862,23 +1018,33 @@ def write_annotated(
     *,
     owner_prefix: str = "Swayscreen",
     validate: bool = False,
+    source=None,
 ) -> WriteReport:
     """Write a copy of ``src`` to ``dst`` with our property sets attached (streamed, fast path).
 
     The source is only read. ``dst`` appears complete or not at all (temporary file beside it,
     then ``os.replace``). Raises :class:`InputError` for a reserved or foreign set name, an
-    unknown GlobalId, a value that does not fit its measure, or an unreadable source.
+    unknown GlobalId, a value that does not fit its measure, an unreadable source, or a source
+    that changed while it was being copied.
     With ``validate=True`` the written file is checked with :func:`validate_output`.
+
+    ``source``: the reader's :class:`~.reading.SourceFile` of ``src`` (``reading.
+    read_model_and_source``). Its open model is used, read-only, to plan the write when it is
+    the same file with the same size and modification time; otherwise (or when None) the file
+    is opened again. The output is byte-identical either way; :attr:`WriteReport.reused_parse`
+    says which happened. The writer keeps no reference to it.
     """
     src, dst = Path(src), Path(dst)
     _check_annotations(annotations, owner_prefix)
     if _same_file(src, dst):
         raise InputError(f"{dst}: the annotated copy must not overwrite its source")
-    plan = _plan(src, annotations, owner_prefix)
+    plan = _plan(src, annotations, owner_prefix, source)
     with atomic_path(dst) as tmp, os.fdopen(os.open(tmp, os.O_WRONLY | os.O_TRUNC), "wb") as out:
         written = _stream(src, out, plan.drop_ids, plan.lines)
         out.flush()
         os.fsync(out.fileno())
+        if _stat_key(src) != plan.source_stat:  # the plan's ids may no longer match the bytes copied
+            raise InputError(f"{src}: the file changed while its annotated copy was being written; run again")
     errors = tuple(validate_output(dst)) if validate else None
     return WriteReport(
         dst=dst,
@@ -893,6 +1059,7 @@ def write_annotated(
         fallbacks=tuple(plan.fallbacks),
         validation_errors=errors,
         notes=tuple(plan.notes),
+        reused_parse=plan.reused_parse,
     )
 
 
