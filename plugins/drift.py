@@ -42,6 +42,7 @@ from .wind_common import (
     Terrain,
     WindSettings,
     basic_wind_speed,
+    mode_motions,
     plate_hulls,
     sector_directions,
     terrain_from_settings,
@@ -246,8 +247,9 @@ def drift_analysis(stick: StickModel, modes: Sequence[Any], ws: WindSettings, ds
     terrain = terrain_from_settings(ws)
     rp = ws.serviceability_return_period_yr
     rows = []
+    motions = mode_motions(stick, modes) if modes else None
     for direction in sector_directions(ws.sectors):
-        am = along_wind_mode(stick, modes, ws, direction, terrain)
+        am = along_wind_mode(stick, modes, ws, direction, terrain, motions)
         cscd = 1.0
         if ds.include_structural_factor and am.phi is not None:
             cscd = en_along_response(en_input(am, ws, rp, terrain)).c_s_c_d

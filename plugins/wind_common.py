@@ -63,10 +63,14 @@ __all__ = [
     "top_occupied_index",
     "point_displacement",
     "directional_shape",
+    "ModeMotion",
+    "mode_motion",
+    "mode_motions",
     "generalized_mass_kg",
     "directional_participation",
     "directional_share",
     "select_mode",
+    "select_mode_motion",
     "COUPLED_SHARE",
     "AccelerationCase",
     "AccelerationResult",
@@ -462,35 +466,64 @@ def directional_shape(shape: np.ndarray, points: np.ndarray, origin: Sequence[fl
     return point_displacement(shape, points, origin) @ np.asarray(vec, dtype=float)
 
 
+@dataclass(frozen=True)
+class ModeMotion:
+    """What of a mode does not depend on the wind direction: the plan motion of every floor's
+    mass centre (n, 2) (m, :func:`point_displacement` at the mass centres) and the generalized
+    mass (kg, :func:`generalized_mass_kg`). Computed once per mode and plugin run
+    (:func:`mode_motions`) instead of once per mode and direction."""
+
+    centre_motion_m: np.ndarray
+    generalized_mass_kg: float
+
+
+def mode_motion(stick: StickModel, shape: np.ndarray) -> ModeMotion:
+    """:class:`ModeMotion` of one mode shape."""
+    s = np.asarray(shape, dtype=float)
+    m, j, mc = level_masses(stick)
+    u = point_displacement(s, mc, stick.origin_m)
+    return ModeMotion(u, float(np.sum(m * np.sum(u * u, axis=1)) + np.sum(j * s[:, 2] ** 2)))
+
+
+def mode_motions(stick: StickModel, modes: Sequence[Any]) -> tuple[ModeMotion, ...]:
+    """:class:`ModeMotion` of every mode, in the order of ``modes``."""
+    return tuple(mode_motion(stick, md.shape) for md in modes)
+
+
 def generalized_mass_kg(stick: StickModel, shape: np.ndarray) -> float:
     """phi^T M phi of the rigid-diaphragm mass matrix: sum m_i |u(mass centre)|^2 + J_i theta_i^2 (kg).
 
     J_i is the polar mass moment about the mass centre; this is identical to the
     generalized mass about any origin (parallel-axis theorem).
     """
-    s = np.asarray(shape, dtype=float)
-    m, j, mc = level_masses(stick)
-    u = point_displacement(s, mc, stick.origin_m)
-    return float(np.sum(m * np.sum(u * u, axis=1)) + np.sum(j * s[:, 2] ** 2))
+    return mode_motion(stick, shape).generalized_mass_kg
 
 
-def directional_participation(stick: StickModel, shape: np.ndarray, vec: np.ndarray) -> float:
+def directional_participation(stick: StickModel, shape: np.ndarray, vec: np.ndarray,
+                              motion: ModeMotion | None = None) -> float:
     """Effective-mass ratio of a mode for a uniform floor acceleration along ``vec``:
-    (sum m_i u_i . vec)^2 / (M* sum m_i), u_i at the mass centres (0..1)."""
-    m, _, mc = level_masses(stick)
-    u = directional_shape(shape, mc, stick.origin_m, vec)
-    gm = generalized_mass_kg(stick, shape)
+    (sum m_i u_i . vec)^2 / (M* sum m_i), u_i at the mass centres (0..1).
+
+    ``motion``: the mode's :class:`ModeMotion` when already known."""
+    mo = mode_motion(stick, shape) if motion is None else motion
+    m = level_masses(stick)[0]
+    u = mo.centre_motion_m @ np.asarray(vec, dtype=float)
+    gm = mo.generalized_mass_kg
     if gm <= 0:
         return 0.0
     return float(np.sum(m * u) ** 2 / (gm * m.sum()))
 
 
-def directional_share(stick: StickModel, shape: np.ndarray, vec: np.ndarray) -> float:
+def directional_share(stick: StickModel, shape: np.ndarray, vec: np.ndarray,
+                      motion: ModeMotion | None = None) -> float:
     """Fraction of a mode's kinetic energy in motion along ``vec``: sum m_i (u_i . vec)^2 / M*,
-    u_i at the mass centres (1 for a pure translation along ``vec``, 0.5 for a diagonal one)."""
-    m, _, mc = level_masses(stick)
-    u = directional_shape(shape, mc, stick.origin_m, vec)
-    gm = generalized_mass_kg(stick, shape)
+    u_i at the mass centres (1 for a pure translation along ``vec``, 0.5 for a diagonal one).
+
+    ``motion``: the mode's :class:`ModeMotion` when already known."""
+    mo = mode_motion(stick, shape) if motion is None else motion
+    m = level_masses(stick)[0]
+    u = mo.centre_motion_m @ np.asarray(vec, dtype=float)
+    gm = mo.generalized_mass_kg
     return float(np.sum(m * u * u) / gm) if gm > 0 else 0.0
 
 
@@ -499,16 +532,28 @@ COUPLED_SHARE = 0.8
 reported as coupled (a note, not a validity limit; common practice)."""
 
 
+def select_mode_motion(modes: Sequence[Any], stick: StickModel, vec: np.ndarray,
+                       motions: Sequence[ModeMotion] | None = None) -> tuple[Any, float, ModeMotion]:
+    """:func:`select_mode`, also giving the chosen mode's :class:`ModeMotion`.
+
+    ``motions``: :func:`mode_motions` of ``modes`` (same order) when already known."""
+    if not modes:
+        raise InputError(f"building {stick.building_name!r}: the modal analysis gave no modes")
+    mos = mode_motions(stick, modes) if motions is None else motions
+    if len(mos) != len(modes):
+        raise ValueError(f"{len(mos)} mode motions given for {len(modes)} modes")
+    best, best_ratio, best_motion = None, -1.0, None
+    for mode, mo in sorted(zip(modes, mos), key=lambda pair: (pair[0].frequency_hz, pair[0].index)):
+        ratio = directional_participation(stick, mode.shape, vec, mo)
+        if ratio > best_ratio + 1e-9:
+            best, best_ratio, best_motion = mode, ratio, mo
+    return best, best_ratio, best_motion
+
+
 def select_mode(modes: Sequence[Any], stick: StickModel, vec: np.ndarray) -> tuple[Any, float]:
     """The mode with the greatest effective-mass ratio along ``vec`` (ties within 1e-9: the lowest
     frequency), and that ratio."""
-    if not modes:
-        raise InputError(f"building {stick.building_name!r}: the modal analysis gave no modes")
-    best, best_ratio = None, -1.0
-    for mode in sorted(modes, key=lambda md: (md.frequency_hz, md.index)):
-        ratio = directional_participation(stick, mode.shape, vec)
-        if ratio > best_ratio + 1e-9:
-            best, best_ratio = mode, ratio
+    best, best_ratio, _ = select_mode_motion(modes, stick, vec)
     return best, best_ratio
 
 

@@ -51,6 +51,7 @@ from .wind_common import (
     AccelerationCase,
     AccelerationResult,
     FloorGeometry,
+    ModeMotion,
     Terrain,
     WindSettings,
     basic_wind_speed,
@@ -59,10 +60,10 @@ from .wind_common import (
     directional_shape,
     directional_share,
     floor_geometry,
-    generalized_mass_kg,
+    mode_motions,
     required_return_periods,
     sector_directions,
-    select_mode,
+    select_mode_motion,
     structural_damping_ratio,
     terrain_from_settings,
     wind_axes,
@@ -404,20 +405,23 @@ class AlongMode:
 
 
 def along_wind_mode(stick: StickModel, modes: Sequence[Any], ws: WindSettings, direction_deg: float,
-                    terrain: Terrain | None = None) -> AlongMode:
-    """Pick the mode with the largest along-wind effective mass and form Phi, M*, K_x, m_e."""
+                    terrain: Terrain | None = None, motions: Sequence[ModeMotion] | None = None) -> AlongMode:
+    """Pick the mode with the largest along-wind effective mass and form Phi, M*, K_x, m_e.
+
+    ``motions``: :func:`~swayscreen.plugins.wind_common.mode_motions` of ``modes`` when already
+    known (callers looping over directions compute them once)."""
     terrain = terrain_from_settings(ws) if terrain is None else terrain
     along, _ = wind_axes(direction_deg, stick.true_north_deg)
     fg = floor_geometry(stick, along, ws.plate_rule)
-    mode, part = select_mode(modes, stick, along)
-    share = directional_share(stick, mode.shape, along)
+    mode, part, motion = select_mode_motion(modes, stick, along, motions)
+    share = directional_share(stick, mode.shape, along, motion)
     raw = directional_shape(mode.shape, fg.centre_m, stick.origin_m, along)
     s = float(raw[-1])
     zs = reference_height(fg.height_m, terrain)
     if abs(s) <= 1e-9 * max(float(np.max(np.abs(np.asarray(mode.shape)[:, :2]))), 1e-300):
         return AlongMode(direction_deg, along, fg, mode, part, share, s, None, math.inf, math.nan, math.nan, zs)
     phi = raw / s
-    gm = generalized_mass_kg(stick, mode.shape) / s ** 2
+    gm = motion.generalized_mass_kg / s ** 2
     k_x, m_e = modal_equivalents(fg.z_m, fg.tributary_m, fg.width_m, fg.b_m, phi, gm, terrain, zs)
     return AlongMode(direction_deg, along, fg, mode, part, share, s, phi, gm, k_x, m_e, zs)
 
@@ -440,8 +444,9 @@ def en_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings,
     zeta_s = structural_damping_ratio(ws)
     cases: list[AccelerationCase] = []
     warnings: list[str] = []
+    motions = mode_motions(stick, modes) if modes else None
     for direction in sector_directions(ws.sectors):
-        am = along_wind_mode(stick, modes, ws, direction, terrain)
+        am = along_wind_mode(stick, modes, ws, direction, terrain, motions)
         fg, mode = am.geometry, am.mode
         if fg.fallback_plates:
             msg = "floor plate missing, plan size estimated from the mass moment: " + ", ".join(fg.fallback_plates)

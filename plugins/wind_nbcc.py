@@ -76,10 +76,10 @@ from .wind_common import (
     directional_shape,
     directional_share,
     floor_geometry,
-    generalized_mass_kg,
+    mode_motions,
     required_return_periods,
     sector_directions,
-    select_mode,
+    select_mode_motion,
     structural_damping_ratio,
     wind_axes,
     wind_settings,
@@ -299,6 +299,7 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
     z_m = np.array([lv.elevation_m - stick.base_elevation_m for lv in stick.levels], dtype=float)
     ce = np.array([nbcc_exposure_factor(z, exposure) for z in z_m])
     cases: list[AccelerationCase] = []
+    motions = mode_motions(stick, modes) if modes else None
     for direction in sector_directions(ws.sectors):
         along, across = wind_axes(direction, stick.true_north_deg)
         fg = floor_geometry(stick, along, ws.plate_rule)
@@ -314,7 +315,7 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
             common_notes.append(f"H/w = {height / w_eff:.1f} above {ns.max_height_to_width:g}: wind-tunnel "
                                 "testing recommended")
         for response, vec in (("along", along), ("across", across)):
-            mode, part = select_mode(modes, stick, vec)
+            mode, part, motion = select_mode_motion(modes, stick, vec, motions)
             raw = directional_shape(mode.shape, fg.centre_m, stick.origin_m, vec)
             s = float(raw[-1])
             n = float(mode.frequency_hz)
@@ -323,7 +324,7 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
             if n < ns.min_frequency_hz:
                 notes.append(f"frequency {n:.3f} Hz below {ns.min_frequency_hz:g} Hz: wind-tunnel testing "
                              "recommended")
-            share = directional_share(stick, mode.shape, vec)
+            share = directional_share(stick, mode.shape, vec, motion)
             if share < COUPLED_SHARE:
                 info.append(f"mode {mode.index} is coupled: {share:.0%} of its kinetic energy along the response")
             if abs(s) <= 1e-9 * max(float(np.max(np.abs(mode.shape[:, :2]))), 1e-300):
@@ -335,7 +336,7 @@ def nbcc_accelerations(stick: StickModel, modes: Sequence[Any], ws: WindSettings
                                                   stick.levels[top].name, top, False, "; ".join(notes + info), {}))
                 continue
             phi = raw / s
-            gm = generalized_mass_kg(stick, mode.shape) / s ** 2
+            gm = motion.generalized_mass_kg / s ** 2
             for rp in return_periods_yr:
                 v10 = basic_wind_speed(ws, rp, direction) / ns.ten_minute_to_hourly
                 v_h = v10 * math.sqrt(c_eh)
