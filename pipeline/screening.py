@@ -56,6 +56,18 @@ class BuildingScreening:
     assessment: Assessment
     timings_s: dict[str, float] = field(default_factory=dict)
 
+    # ``results`` is a read-only view (MappingProxyType), which pickle cannot write: a plain
+    # dict crosses the process boundary and the view is rebuilt on arrival.
+    def __getstate__(self) -> dict[str, Any]:
+        state = dict(self.__dict__)
+        state["results"] = dict(self.results)
+        return state
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        state = dict(state)
+        state["results"] = MappingProxyType(dict(state["results"]))
+        self.__dict__.update(state)
+
 
 @dataclass(frozen=True)
 class ScreeningRun:

@@ -48,10 +48,11 @@ GlobalIds
 Reusing the reader's parse
     The reader's model is only looked at (``by_guid``, ``by_id``, ``by_type``, inverses, units),
     never edited. The parser's log of that open, which named the GlobalIds the file repeats, was
-    read by the reader, so the writer finds repeated target GlobalIds from the bytes instead: a
-    GlobalId (22 characters of ``0-9A-Za-z_$``, ISO 16739-1 IfcGloballyUniqueId) is a string of
-    the basic alphabet and so appears literally, quoted, in the file (ISO 10303-21 clause 6.4.3);
-    a target quoted more than once is looked up among all rooted entities, as after a fresh open.
+    read by the reader: when the source carries them (``shared_global_ids``) they are used, else
+    the writer finds repeated target GlobalIds from the bytes: a GlobalId (22 characters of
+    ``0-9A-Za-z_$``, ISO 16739-1 IfcGloballyUniqueId) is a string of the basic alphabet and so
+    appears literally, quoted, in the file (ISO 10303-21 clause 6.4.3); a target quoted more than
+    once is looked up among all rooted entities, as after a fresh open.
     The file's size and modification time are checked again after the copy: a source changed
     while it was being copied is an error, never a mixed copy.
 
@@ -766,9 +767,13 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, s
     if reused:
         model = source.model  # read-only: nothing below edits it
         stat: tuple[int, int] | None = (source.size_bytes, source.mtime_ns)
+        known = getattr(source, "shared_global_ids", None)  # the parser's own list, if the reader kept it
         shared: set[str] | None
-        shared, present = _scan_global_ids(src, {a.global_id for a in annotations},
-                                           {g for pair in new_gids for g in pair})
+        if known is not None:
+            shared = set(known)
+        else:
+            shared, present = _scan_global_ids(src, {a.global_id for a in annotations},
+                                               {g for pair in new_gids for g in pair})
     else:
         stat = _stat_key(src)  # before the open: a change from here on is caught after the copy
         model = _open(src, lazy=True)
@@ -1032,7 +1037,9 @@ def write_annotated(
     read_model_and_source``). Its open model is used, read-only, to plan the write when it is
     the same file with the same size and modification time; otherwise (or when None) the file
     is opened again. The output is byte-identical either way; :attr:`WriteReport.reused_parse`
-    says which happened. The writer keeps no reference to it.
+    says which happened. The writer keeps no reference to it. (What is used: ``path``,
+    ``size_bytes``, ``mtime_ns``, ``model``, ``unchanged()`` and, when present, the GlobalIds the
+    parser reported as repeated, ``shared_global_ids``.)
     """
     src, dst = Path(src), Path(dst)
     _check_annotations(annotations, owner_prefix)
