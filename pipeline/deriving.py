@@ -143,19 +143,19 @@ class _Memo:
         for (e, _), area, wkb in zip(items, shapely.area(geoms).tolist(), shapely.to_wkb(geoms).tolist()):
             self.shapes[id(e)] = (e, area, wkb)
 
-    def _shape(self, element: Any, geom: Any) -> tuple[float, bytes | None]:
+    def _shape(self, element: Any, geom: Any) -> tuple[Any, float, bytes | None]:
         got = self.shapes.get(id(element))
         if got is None or got[0] is not element:
             got = self.shapes[id(element)] = (element, float(geom.area), geom.wkb)
-        return got[1], got[2]
+        return got
 
     def area(self, element: Any, geom: Any) -> float:
         """``geom.area`` (the element's plan shape, not None)."""
-        return self._shape(element, geom)[0]
+        return self._shape(element, geom)[1]
 
     def wkb(self, element: Any, geom: Any) -> bytes:
         """``geom.wkb`` (the element's plan shape, not None)."""
-        return self._shape(element, geom)[1]  # type: ignore[return-value]
+        return self._shape(element, geom)[2]  # type: ignore[return-value]
 
     def material(self, book: MaterialBook, material: Any) -> Any:
         """``book.get(material)`` (no role, so nothing is counted)."""
@@ -163,6 +163,27 @@ class _Memo:
         if got is None or got[0] is not material:
             got = self.materials[id(material)] = (material, book.get(material))
         return got[1]
+
+    def columns(self, storeys: Sequence[Storey], book: MaterialBook) -> list[tuple[Any, bytes, float]]:
+        """(column, section WKB, E Pa) of the storeys' columns with a section of positive area,
+        in order (materials resolved in that order, as a loop calling ``book.get`` would)."""
+        shapes, mats = self.shapes, self.materials
+        out = []
+        for s in storeys:
+            for c in s.columns:
+                sec = c.section
+                if sec is None:
+                    continue
+                got = shapes.get(id(c))
+                if got is None or got[0] is not c:
+                    got = self._shape(c, sec)
+                if not got[1] > 0:
+                    continue
+                m = c.material
+                r = mats.get(id(m))
+                res = r[1] if r is not None and r[0] is m else self.material(book, m)
+                out.append((c, got[2], res.e_pa))
+        return out
 
     def slab_field(self, layout: FloorLayout, i: int, book: MaterialBook) -> SlabField:
         got = self.field_at.get(i)
@@ -222,17 +243,16 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
                 warnings.append(f"{sysn.system_id} in '{s.name}': section with no bending stiffness ignored")
                 continue
             segs.append(cantilever_segment(sysn.system_id, sysn.kind, j, f.height_m, sec, e, g, stiffness))
-    cols = [c for s in storeys for c in s.columns if c.section is not None and memo.area(c, c.section) > 0]
+    rows = memo.columns(storeys, book)
     report = None
-    if cols:
-        e_cols = [memo.material(book, c.material).e_pa for c in cols]
-        signature = tuple((memo.wkb(c, c.section), float(e)) for c, e in zip(cols, e_cols))
+    if rows:
+        signature = tuple((wkb, float(e)) for _, wkb, e in rows)
         walls_union = memo.walls_union([w for s in storeys for w in s.walls if w.footprint is not None])
         top = memo.slab_field(layout, j, book)
         bottom = memo.slab_field(layout, j - 1, book) if j > 0 else None
         name = " + ".join(s.name for s in storeys)
         seg, report, notes = column_frame(
-            lambda: [ColumnInput(c.global_id, c.section, e) for c, e in zip(cols, e_cols)], signature=signature,
+            lambda: [ColumnInput(c.global_id, c.section, e) for c, _, e in rows], signature=signature,
             level_index=j, storey=name, length_m=f.height_m, top=top, bottom=bottom, fixed_base=(j == 0),
             walls=walls_union, stiffness=stiffness, cache=memo.springs)
         warnings.extend(notes)

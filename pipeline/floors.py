@@ -138,6 +138,25 @@ def vertical_shares(nodes: tuple[float, ...] | list[float], z0: float, z1: float
     return out
 
 
+def _nearest(levels_z: list[float], z: float) -> int:
+    """The first index k of the smallest ``abs(levels_z[k] - z)`` (``levels_z`` ascending), found by
+    bisection: the distances fall, then rise, along a sorted list (rounding keeps that order), so
+    the nearest lies next to the insertion point; equal distances further down are walked to,
+    as ``min`` over the whole list would pick the first of them."""
+    n = len(levels_z)
+    k = bisect.bisect_left(levels_z, z)
+    if k >= n:
+        i = n - 1
+    elif k == 0:
+        i = 0
+    else:
+        i = k - 1 if abs(levels_z[k - 1] - z) <= abs(levels_z[k] - z) else k
+    d = abs(levels_z[i] - z)
+    while i > 0 and abs(levels_z[i - 1] - z) == d:
+        i -= 1
+    return i
+
+
 def _elements_tall(storeys: list[Storey], min_height: float) -> bool:
     return any(w.height_m >= min_height for s in storeys for w in s.walls) or any(
         c.height_m >= min_height for s in storeys for c in s.columns)
@@ -219,11 +238,15 @@ def plan_floors(building: BuildingTakeoff, levels: LevelSettings) -> FloorLayout
     # Slab assignment to the nearest floor level (storey groups and the extra roof).
     levels_z = elevations[1:] + ([roof_extra[0]] if roof_extra else [])
     plate: dict[int, list[Slab]] = {i: [] for i in range(len(levels_z))}
+    ascending = all(a < b for a, b in zip(levels_z, levels_z[1:]))
     for sl in candidates:
         if not levels_z:
             loose.append(sl)
             continue
-        i = min(range(len(levels_z)), key=lambda k: abs(levels_z[k] - sl.top_elevation_m))
+        if ascending:
+            i = _nearest(levels_z, sl.top_elevation_m)
+        else:
+            i = min(range(len(levels_z)), key=lambda k: abs(levels_z[k] - sl.top_elevation_m))
         if abs(levels_z[i] - sl.top_elevation_m) <= tol:
             plate[i].append(sl)
         else:

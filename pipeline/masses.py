@@ -131,11 +131,10 @@ def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
     """A plan point near the building (bounding-box centre of slabs, walls and columns)."""
     shapes = [sl.footprint for f in layout.floors for sl in f.slabs]
     shapes += [w.footprint for w in layout.walls] + [c.section for c in layout.columns]
-    shapes = [s for s in shapes if s is not None and not s.is_empty]
-    if not shapes:
+    arr = _geometries(shapes)
+    arr = arr[~shapely.is_missing(arr) & ~shapely.is_empty(arr)]
+    if not len(arr):
         return (0.0, 0.0)
-    arr = np.empty(len(shapes), dtype=object)
-    arr[:] = shapes
     b = shapely.bounds(arr)
     minx, miny = float(b[:, 0].min()), float(b[:, 1].min())
     maxx, maxy = float(b[:, 2].max()), float(b[:, 3].max())
@@ -341,6 +340,25 @@ def floor_slabs(floors: Sequence[Floor], i: int) -> tuple[tuple[Slab, ...], Floo
     return (above[0].slabs, above[0]) if above else ((), None)
 
 
+def _slab_sources(floors: Sequence[Floor]) -> list[tuple[tuple[Slab, ...], Floor | None]]:
+    """:func:`floor_slabs` of every floor in one pass each way (linear in the floors)."""
+    out: list[tuple[tuple[Slab, ...], Floor | None] | None] = [None] * len(floors)
+    last: Floor | None = None
+    for i, f in enumerate(floors):
+        if f.slabs:
+            out[i] = (f.slabs, None)
+            last = f
+        elif last is not None:
+            out[i] = (last.slabs, last)
+    nxt: Floor | None = None
+    for i in range(len(floors) - 1, -1, -1):
+        if floors[i].slabs:
+            nxt = floors[i]
+        elif out[i] is None:
+            out[i] = (nxt.slabs, nxt) if nxt is not None else ((), None)
+    return out  # type: ignore[return-value]
+
+
 def _hull_of(floor: Floor) -> BaseGeometry | None:
     for group in (floor.segment_storeys, floor.floor_storeys):
         shapes = [w.footprint for s in group for w in s.walls] + [c.section for s in group for c in s.columns]
@@ -369,13 +387,16 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
     out: list[LevelMass] = []
     borrowed: list[str] = []
     plates: dict[tuple[bytes, ...], _Plate] = {}  # floors with the same slabs in plan share the geometry
+    sources = _slab_sources(floors)
+    own = [sl.footprint for f in floors for sl in f.slabs]
+    wkb_of = dict(zip(map(id, own), shapely.to_wkb(_geometries(own)).tolist()))
     for i, f in enumerate(floors):
-        slabs, src = floor_slabs(floors, i)
+        slabs, src = sources[i]
         estimated = ""
         if src is not None:
             estimated = "borrowed"
             borrowed.append(f"'{f.name}' (from '{src.name}')")
-        key = tuple(sl.footprint.wkb for sl in slabs)
+        key = tuple(wkb_of[id(sl.footprint)] for sl in slabs)
         geo = plates.get(key)
         if geo is None:
             geo = plates[key] = _Plate(slabs, ref)
@@ -386,7 +407,7 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
             if sl.area_m2 > 0:
                 comp["slabs"].add_moments(sl.area_m2 * sl.thickness_m * mat.density_kg_m3, mom)
         comp["slabs"].merge([loose[i]])
-        area = plate.area if plate is not None else 0.0
+        area = geo.area
         if area > 0:
             comp["superimposed dead"].add_moments(loads.superimposed_dead_kpa * kg_per_kpa * area, geo.moments)
             if not f.is_roof:
@@ -404,7 +425,7 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
                 comp["facade"].add_moments(loads.facade_kpa * kg_per_kpa * perim * h_trib, geo.outline_moments)
         comp["walls"].merge([walls[i]])
         comp["columns"].merge([cols[i]])
-        out.append(_finish(comp, plate, estimated, geo.gross_area_m2))
+        out.append(_finish(comp, plate, estimated, geo.gross_area_m2, geo.area))
     if borrowed:
         warnings.append("no slab found at floor(s) " + ", ".join(borrowed)
                         + ": the plate and slabs of the named floor assumed")
@@ -418,6 +439,7 @@ class _Plate:
 
     def __init__(self, slabs: Sequence[Slab], ref: tuple[float, float]) -> None:
         self.plate = plate_of(slabs)
+        self.area = float(self.plate.area) if self.plate is not None else 0.0
         self.slab_moments = [area_moments(sl.footprint, ref) for sl in slabs]
         plate = self.plate
         self.moments = area_moments(plate, ref) if plate is not None else None
@@ -433,7 +455,7 @@ class _Plate:
 
 
 def _finish(comp: dict[str, MassMoments], plate: BaseGeometry | None, estimated: str,
-            gross_area_m2: float | None = None) -> LevelMass:
+            gross_area_m2: float | None = None, plate_area_m2: float | None = None) -> LevelMass:
     total = MassMoments(next(iter(comp.values())).ref)
     total.merge(comp.values())
     if gross_area_m2 is None:
@@ -443,7 +465,7 @@ def _finish(comp: dict[str, MassMoments], plate: BaseGeometry | None, estimated:
         mass_kg=total.m, centre_m=total.centre, polar_moment_kg_m2=total.polar_moment,
         components_kg=tuple((k, c.m) for k, c in comp.items() if c.m != 0.0),
         plate=plate if plate is None or isinstance(plate, (Polygon, MultiPolygon)) else None,
-        plate_area_m2=float(plate.area) if plate is not None else 0.0,
+        plate_area_m2=plate_area_m2 if plate_area_m2 is not None else (float(plate.area) if plate is not None else 0.0),
         gross_area_m2=gross_area_m2, estimated=estimated)
 
 

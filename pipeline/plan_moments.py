@@ -131,17 +131,20 @@ def area_moments_many(shapes: Sequence[BaseGeometry | None], ref: tuple[float, f
     return [AreaMoments(*row) for row in table.tolist()]
 
 
-def area_moments_array(shapes: Sequence[BaseGeometry | None], ref: tuple[float, float] = (0.0, 0.0)
-                       ) -> np.ndarray:
+def area_moments_array(shapes: Sequence[BaseGeometry | None], ref: tuple[float, float] = (0.0, 0.0), *,
+                       refs: np.ndarray | None = None) -> np.ndarray:
     """:func:`area_moments_many` as an array: one row (a, sx, sy, ixx, iyy, ixy) per shape
-    (m-based units; zeros for None and empty shapes), bit for bit the same numbers."""
+    (m-based units; zeros for None and empty shapes), bit for bit the same numbers.
+
+    ``refs``: an (n, 2) array of one reference point per shape, used instead of ``ref``.
+    """
     out = np.zeros((len(shapes), 6))
     fast = []
     for i, g in enumerate(shapes):
         if isinstance(g, (Polygon, MultiPolygon)):
             fast.append(i)
         elif g is not None:
-            m = area_moments(g, ref)
+            m = area_moments(g, ref if refs is None else (float(refs[i][0]), float(refs[i][1])))
             out[i] = (m.a, m.sx, m.sy, m.ixx, m.iyy, m.ixy)
     if not fast:
         return out
@@ -152,7 +155,12 @@ def area_moments_array(shapes: Sequence[BaseGeometry | None], ref: tuple[float, 
     parts, part_of = shapely.orient_polygons(parts[keep]), part_of[keep]
     rings, ring_of = shapely.get_rings(parts, return_index=True)
     coords, coord_ring = shapely.get_coordinates(rings, return_index=True)
-    ox, oy = ref
+    shape_of_ring = np.asarray(fast)[part_of[ring_of]]
+    if refs is None:
+        ox, oy = ref
+    else:
+        at = np.asarray(refs, dtype=float)[shape_of_ring[coord_ring]]
+        ox, oy = at[:, 0], at[:, 1]
     x = coords[:, 0] - ox
     y = coords[:, 1] - oy
     same = coord_ring[:-1] == coord_ring[1:]  # consecutive vertices of one ring
@@ -163,7 +171,6 @@ def area_moments_array(shapes: Sequence[BaseGeometry | None], ref: tuple[float, 
              (y0 * y0 + y0 * y1 + y1 * y1) * c, (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0) * c)
     n_rings = len(rings)
     per_ring = np.column_stack([np.bincount(seg_ring, weights=t, minlength=n_rings) for t in terms]) / _DIVISORS
-    shape_of_ring = np.asarray(fast)[part_of[ring_of]]
     # rings in order (exterior, holes; part by part), added to 0 one after the other as area_moments does
     per_shape = np.column_stack([np.bincount(shape_of_ring, weights=per_ring[:, k], minlength=len(shapes))
                                  for k in range(6)])

@@ -67,7 +67,7 @@ from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
 
 from .core_settings import StiffnessSettings
-from .plan_moments import area_moments
+from .plan_moments import AreaMoments, area_moments, area_moments_array
 from .stick import SectionProps, Segment
 
 __all__ = [
@@ -169,6 +169,7 @@ class SlabField:
         else:
             self.mean_t = self.mean_e = 0.0
         self.area_m2 = float(unary_union([p[0] for p in self.pieces]).area) if self.pieces else 0.0
+        self._at: dict[tuple[float, float], tuple[float, float]] = {}  # at() by point (same answer each time)
 
     def __bool__(self) -> bool:
         return bool(self.pieces)
@@ -176,6 +177,13 @@ class SlabField:
     def at(self, x: float, y: float) -> tuple[float, float]:
         """(thickness m, E Pa) of the slab at (x, y): the slab containing or within 1 m of the point,
         else the area-weighted means."""
+        key = (x, y)
+        got = self._at.get(key)
+        if got is None:
+            got = self._at[key] = self._lookup(x, y)
+        return got
+
+    def _lookup(self, x: float, y: float) -> tuple[float, float]:
         pt = Point(x, y)
         best = None
         for shp, t, e in self.pieces:
@@ -265,6 +273,36 @@ def _supports(pts: np.ndarray, i: int, wall_d: np.ndarray, axis: int) -> tuple[f
         cands = [v for v in (col, wall) if v is not None]
         out.append(min(cands) if cands else None)
     return out[0], out[1]
+
+
+def _all_supports(pts: np.ndarray, wall_d: np.ndarray) -> list[list[tuple[float | None, float | None]]]:
+    """``[_supports(pts, i, wall_d, 0), _supports(pts, i, wall_d, 1)]`` for every column ``i`` at once
+    (the same comparisons on the same differences; a minimum does not depend on the order)."""
+    d = pts[None, :, :] - pts[:, None, :]  # d[i, j] = pts[j] - pts[i]
+    per_axis = []
+    for axis in (0, 1):
+        par, perp = d[:, :, axis], d[:, :, 1 - axis]
+        sides = []
+        for k, sign in enumerate((-1.0, 1.0)):
+            sel = (sign * par > 1e-6) & (np.abs(perp) <= _CONE * np.abs(par)) & (np.abs(par) <= MAX_SLAB_SPAN_M)
+            col = np.where(sel, np.abs(par), np.inf).min(axis=1) if len(pts) else np.zeros(0)
+            has = sel.any(axis=1)
+            w = wall_d[:, 2 * axis + k]
+            sides.append((col.tolist(), has.tolist(), w.tolist()))
+        per_axis.append(sides)
+    out: list[list[tuple[float | None, float | None]]] = []
+    for i in range(len(pts)):
+        row: list[tuple[float | None, float | None]] = []
+        for axis in (0, 1):
+            pair: list[float | None] = []
+            for col, has, w in per_axis[axis]:
+                c = col[i] if has[i] else None
+                wall = None if math.isnan(w[i]) else w[i]
+                cands = [v for v in (c, wall) if v is not None]
+                pair.append(min(cands) if cands else None)
+            row.append((pair[0], pair[1]))
+        out.append(row)
+    return out
 
 
 def _strips(field: SlabField | None, x: float, y: float, spans: tuple[float | None, float | None],
@@ -425,18 +463,23 @@ def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bott
     cols = list(columns)
     index = list(range(len(cols)))
     n_inside = 0
+    sections = np.empty(len(cols), dtype=object)
+    sections[:] = [c.section for c in cols]
+    centroids = shapely.centroid(sections)
+    cxy = np.column_stack([shapely.get_x(centroids), shapely.get_y(centroids)]).reshape(-1, 2)
     if walls is not None and not walls.is_empty:
-        cxy = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols]).reshape(-1, 2)
         mask = shapely.contains_xy(walls, cxy[:, 0], cxy[:, 1]) if len(cols) else np.zeros(0, bool)
-        inside = [c for c, m in zip(cols, mask) if m]
-        if inside:
-            n_inside = len(inside)
-            index = [i for i, c in zip(index, cols) if c not in inside]
-            cols = [c for c in cols if c not in inside]
+        if mask.any():
+            n_inside = int(mask.sum())
+            keep = ~mask
+            index = [i for i, k in zip(index, keep.tolist()) if k]
+            cols = [c for c, k in zip(cols, keep.tolist()) if k]
+            sections, cxy = sections[keep], cxy[keep]
     if not cols:
         return (), n_inside, False, "", False, ()
-    pts = np.array([[c.section.centroid.x, c.section.centroid.y] for c in cols], dtype=float)
-    inertias = [column_second_moments(c.section) for c in cols]
+    pts = np.array(cxy, dtype=float)
+    # second moments of each section about its own centroid (column_second_moments, vectorised)
+    inertias = [AreaMoments(*row).central() for row in area_moments_array(list(sections), refs=pts).tolist()]
 
     set_a = stiffness.column_restraint_factor
     have_slab = bool(top) or (bool(bottom) and not fixed_base)
@@ -447,8 +490,7 @@ def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bott
     spans: list[list[tuple[float | None, float | None]]] = []
     if set_a is None and have_slab:
         wall_d = _wall_distances(pts, walls)
-        for i in range(len(cols)):
-            spans.append([_supports(pts, i, wall_d, 0), _supports(pts, i, wall_d, 1)])
+        spans = _all_supports(pts, wall_d)
         found = [v for s in spans for pair in s for v in pair if v is not None]
         field_area = max((top.area_m2 if top else 0.0), (bottom.area_m2 if bottom else 0.0))
         if found:
