@@ -109,14 +109,18 @@ def metrics(results: dict, clock: str = "wall") -> list[Metric]:
                _sum(_field("naive", "open_s"), _field("naive", "tessellate_s"), _field("naive", "filewrite_s")), "naive"),
         Metric("reserialise", "write_annotated_reserialise (ref.)", "time", _field("reserialise", "reserialise_s"), "naive"),
         Metric("open_wall", "process: open only", "proc", _field("open", "wall_s"), "process"),
-        Metric("e2e_wall", "process: swayscreen screen --out", "proc", _field("e2e", "wall_s"), "process"),
-        Metric("e2e_wall_norep", "process: screen --out minus report", "proc", _minus(_field("e2e", "wall_s"),
-               _field("pipeline", "report_s")), "process"),
+        Metric("e2e_norep_wall", "process: screen --out --no-report", "proc", _field("e2e_norep", "wall_s"),
+               "process"),
+        Metric("e2e_wall", "process: screen --out (with report)", "proc", _field("e2e", "wall_s"), "process"),
+        Metric("e2e_report_diff", "  with report minus --no-report", "proc",
+               _minus(_field("e2e", "wall_s"), _field("e2e_norep", "wall_s")), "process"),
         Metric("naive_wall", "process: naive baseline", "proc", _field("naive", "wall_s"), "process"),
         Metric("open_mem", "peak RSS: open only", "mem", _field("open", "maxrss_mb"), "memory"),
         Metric("open_lazy_mem", "peak RSS: open lazy", "mem", _field("open_lazy", "maxrss_mb"), "memory"),
         Metric("pipeline_mem", "peak RSS: staged pipeline", "mem", _field("pipeline", "maxrss_mb"), "memory"),
-        Metric("e2e_mem", "peak RSS: swayscreen screen --out", "mem", _field("e2e", "maxrss_mb"), "memory"),
+        Metric("e2e_norep_mem", "peak RSS: screen --out --no-report", "mem", _field("e2e_norep", "maxrss_mb"),
+               "memory"),
+        Metric("e2e_mem", "peak RSS: screen --out (with report)", "mem", _field("e2e", "maxrss_mb"), "memory"),
         Metric("naive_mem", "peak RSS: naive baseline", "mem", _field("naive", "maxrss_mb"), "memory"),
     ]
     return m
@@ -180,26 +184,33 @@ def targets(med: dict, expo: dict, largest: str, ms: list[Metric]) -> list[dict]
     row = med[largest]
     out = []
 
-    def add(name: str, value: float | None, limit: float, sense: str, note: str = "") -> None:
+    def add(name: str, value: float | None, limit: float, sense: str, note: str = "", info: bool = False) -> None:
         ok = None if value is None else (value <= limit if sense == "<=" else value >= limit)
-        out.append({"target": name, "value": value, "limit": limit, "sense": sense, "met": ok, "note": note})
+        out.append({"target": name, "value": value, "limit": limit, "sense": sense, "met": ok, "note": note,
+                    "info": info})
 
-    add(f"screen end to end / open, whole processes ({largest} storeys)",
-        _div(row["e2e_wall"], row["open_wall"]), E2E_OVER_OPEN_MAX, "<=",
-        "`swayscreen screen --out` over a process that only imports ifcopenshell and opens the file")
+    # The issue times the HTML report separately, so the end-to-end targets are measured on
+    # `swayscreen screen --out DIR --no-report` (a fresh process, like every e2e run); the run
+    # with the report is printed for information.
     add(f"screen end to end minus the report / open, whole processes ({largest} storeys)",
-        _div(row["e2e_wall_norep"], row["open_wall"]), E2E_OVER_OPEN_MAX, "<=",
-        "the issue times the HTML report separately: its first-call time (staged run) is subtracted")
-    add(f"screen end to end / the open() call alone ({largest} storeys)",
-        _div(row["e2e_wall"], row["open"]), E2E_OVER_OPEN_MAX, "<=",
+        _div(row["e2e_norep_wall"], row["open_wall"]), E2E_OVER_OPEN_MAX, "<=",
+        "`swayscreen screen --out DIR --no-report` over a process that only imports ifcopenshell and opens the file")
+    add(f"screen end to end with the report / open, whole processes ({largest} storeys)",
+        _div(row["e2e_wall"], row["open_wall"]), E2E_OVER_OPEN_MAX, "<=",
+        "for information: `swayscreen screen --out DIR`, the HTML report included", info=True)
+    add(f"screen end to end minus the report / the open() call alone ({largest} storeys)",
+        _div(row["e2e_norep_wall"], row["open"]), E2E_OVER_OPEN_MAX, "<=",
         "stricter: the screen process's interpreter start and imports counted against the bare open call")
     add(f"screen in process (read..write-back) / open() ({largest} storeys)",
         _div(row["screen_sum"], row["open"]), E2E_OVER_OPEN_MAX, "<=",
         "the pipeline's own stages, no interpreter start, imports or report")
     add(f"speed-up vs naive, whole processes ({largest} storeys)",
-        _div(row["naive_wall"], row["e2e_wall"]), NAIVE_SPEEDUP_MIN, ">=")
+        _div(row["naive_wall"], row["e2e_norep_wall"]), NAIVE_SPEEDUP_MIN, ">=",
+        "naive baseline over `swayscreen screen --out DIR --no-report`")
+    mems = [m for m in (row["e2e_mem"], row.get("e2e_norep_mem")) if m is not None]
     add(f"peak memory screen / open ({largest} storeys)",
-        _div(row["e2e_mem"], row["open_mem"]), MEMORY_OVER_OPEN_MAX, "<=")
+        _div(max(mems) if mems else None, row["open_mem"]), MEMORY_OVER_OPEN_MAX, "<=",
+        "the larger of `swayscreen screen --out DIR` with and without the report")
     open_t = row["open"] or 0.0
     for m in ms:
         if m.kind != "time" or m.group in ("naive", "report") or m.key in ("open", "open_lazy", "import", "setup"):
@@ -213,7 +224,7 @@ def targets(med: dict, expo: dict, largest: str, ms: list[Metric]) -> list[dict]
         if ys and min(ys) < 1e-3 <= max(ys) and max(ys) > 100 * min(ys):
             note += "; does almost no work on the smaller towers, so the exponent says little"
         add(f"exponent: {m.label}", expo.get(m.key), EXPONENT_MAX, "<=", note)
-    for key in ("e2e_wall", "e2e_mem"):
+    for key in ("e2e_norep_wall", "e2e_wall", "e2e_norep_mem", "e2e_mem"):
         label = next(m.label for m in ms if m.key == key)
         add(f"exponent: {label}", expo.get(key), EXPONENT_MAX, "<=")
     add("report does not grow: exponent of the first call", expo.get("report"), REPORT_EXPONENT_MAX, "<=",
@@ -268,7 +279,7 @@ def targets_text(analysis: dict) -> str:
     clock = {"wall": "wall-clock", "cpu": "CPU"}[analysis["clock"]]
     lines = [f"Targets (issue 8) on the {analysis['largest']}-storey tower, {clock} times:"]
     for t in analysis["targets"]:
-        mark = {True: "MET    ", False: "NOT MET", None: "n/a    "}[t["met"]]
+        mark = "info   " if t.get("info") else {True: "MET    ", False: "NOT MET", None: "n/a    "}[t["met"]]
         v = "-" if t["value"] is None else f"{t['value']:.2f}"
         note = f"  [{t['note']}]" if t["note"] else ""
         lines.append(f"  {mark} {t['target']}: {v} (target {t['sense']} {t['limit']:g}){note}")

@@ -7,8 +7,9 @@ Stages:
 * ``generate``: write the sample tower ``--storeys N`` (facade panels on) to ``--model``.
 * ``open`` / ``open_lazy``: ``ifcopenshell.open(path)`` / ``ifcopenshell.open(path, lazy=True)``.
 * ``pipeline``: the screening stages one after the other, each timed: read, derive, every
-  plugin, assessment, property-set annotations, streamed write-back, summary, HTML report
-  (first call, plot-library import included, then a second call for the warm cost).
+  plugin, assessment, property-set annotations, streamed write-back (planned on the reader's
+  open file, as ``swayscreen screen --out`` does), summary, HTML report (first call,
+  plot-library import included, then a second call for the warm cost).
 * ``naive``: open, tessellate every IfcSlab/IfcWall/IfcColumn with the geometry iterator
   (world coordinates, 2 threads), re-serialise the whole file with ``file.write``.
 * ``reserialise``: the reference writer ``write_annotated_reserialise`` with the same
@@ -105,7 +106,7 @@ def stage_pipeline(a) -> dict:
     c.into(out, "setup")
 
     c = _Clock()
-    takeoff = reading.read_model(a.model, settings["levels"])
+    takeoff, source = reading.read_model_and_source(a.model, settings["levels"])
     c.into(out, "read")
 
     # Wall seconds of derive and of each plugin come from screen_building's own timings_s;
@@ -154,9 +155,11 @@ def stage_pipeline(a) -> dict:
             pickle.dump(anns, fh)
 
     dst = Path(a.tmp) / "annotated.ifc"
-    c = _Clock()
-    rep = writing.write_annotated(Path(a.model), dst, anns, owner_prefix=outputs.PSET_PREFIX)
+    c = _Clock()  # planned on the reader's open file, as `swayscreen screen --out` does
+    rep = writing.write_annotated(Path(a.model), dst, anns, owner_prefix=outputs.PSET_PREFIX, source=source)
     c.into(out, "write")
+    del source  # released after the write, as in the pipeline
+    out["write_reused_parse"] = rep.reused_parse
     out["write_added"] = rep.instances_added
     out["write_removed"] = rep.instances_removed
     out["psets_written"] = rep.psets_written

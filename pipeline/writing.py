@@ -85,6 +85,7 @@ import mmap
 import os
 import re
 import uuid
+from collections import Counter
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -410,20 +411,15 @@ def _scan_global_ids(src: Path, targets: Iterable[str], ours: Iterable[str]) -> 
         else:
             odd.add(g)
     mine = {g.encode("ascii") for g in ours}
-    seen: set[bytes] = set()
-    repeated: set[bytes] = set()
-    present: set[bytes] = set()
+    found: list[bytes] = []
     with open(src, "rb") as fh:
         if os.fstat(fh.fileno()).st_size:
             with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
-                for g in _QUOTED_GUID.findall(mm):
-                    if g in wanted:
-                        if g in seen:
-                            repeated.add(g)
-                        seen.add(g)
-                    elif g in mine:
-                        present.add(g)
-    return {g.decode("ascii") for g in repeated} | odd, {g.decode("ascii") for g in present}
+                found = _QUOTED_GUID.findall(mm)
+    counts = Counter(filter(wanted.__contains__, found))  # C-level filtering and counting
+    repeated = {g.decode("ascii") for g, n in counts.items() if n > 1}
+    present = {g.decode("ascii") for g in filter(mine.__contains__, found)}
+    return repeated | odd, present
 
 
 class _Targets:
@@ -977,9 +973,9 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
                 if j is not None and re.match(rb"ENDSEC\s*;", mm[k : k + 64]) and _quotes_before(mm, k) % 2 == 0:
                     cut = j
                 end = k
-            end, data = cut, None
+            start, data = 0, None  # a DATA statement before the cut (searched forward: it is near the top)
             while data is None:
-                k = mm.rfind(b"DATA", 0, end)
+                k = mm.find(b"DATA", start, cut)
                 if k < 0:
                     return None
                 if (
@@ -988,7 +984,7 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
                     and _quotes_before(mm, k) % 2 == 0
                 ):
                     data = k
-                end = k
+                start = k + 1
             eol = _ANY_EOL.search(mm[: min(len(mm), 1 << 16)])
             block = _insertion(mm[cut : cut + 256], lines, eol.group(0) if eol else None)
             written = 0
