@@ -69,6 +69,23 @@ def test_across_wind_damping_and_frequency_scaling() -> None:
     assert c / a == pytest.approx(1.5 ** -1.3, rel=1e-12)
 
 
+@pytest.mark.parametrize("height_m", [3.0, 10.0, 50.0, 150.0, 560.0, 1000.0])
+@pytest.mark.parametrize("width_m", [2.0, 20.0, 60.0, 300.0])
+def test_background_factor_matches_adaptive_quadrature(height_m: float, width_m: float) -> None:
+    # independent oracle: the commentary's integral B = 4/3 int_0^(914/H) ... dx evaluated by
+    # scipy.integrate.quad (QUADPACK, adaptive Gauss-Kronrod, tightened tolerances); the
+    # module's fixed Gauss-Legendre panels must agree to round-off over buildings from a
+    # house to 1 km tall (quad's own error estimate is below 1e-12 relative here)
+    from scipy.integrate import quad
+
+    def f(x: float) -> float:
+        return 1.0 / (1.0 + x * height_m / 457.0) / (1.0 + x * width_m / 122.0) * x / (1.0 + x * x) ** (4.0 / 3.0)
+
+    val, err = quad(f, 0.0, 914.0 / height_m, limit=200, epsabs=0.0, epsrel=1e-13)
+    assert err <= 1e-12 * val
+    assert nbcc_background_factor(height_m, width_m) == pytest.approx(4.0 / 3.0 * val, rel=1e-11)
+
+
 def test_along_wind_check() -> None:
     # methods sheet 2 along-wind check: H = 150, W = 40, n_D = 0.3067, V_H = 30, beta = 0.015,
     # K = 0.10, rough exposure, Delta = 0.15 m
