@@ -19,8 +19,12 @@ outside a string (``'...'``, apostrophes doubled inside) and outside a comment (
 statement may span many lines. When nothing is to be removed and the file has no comment, the
 insertion point is found from the end (the last ``ENDSEC;`` that starts a statement, with an even
 number of apostrophes before it, after a ``DATA`` statement) and the bytes around it are copied
-with C-level slices; otherwise every statement is matched in turn (one regular expression per
-statement, read in 4 MiB blocks) so that the instances to remove can be dropped by ``#id``.
+with C-level slices. On a re-run (our earlier instances to remove) of a file with no comment,
+the statement of the lowest id to remove is found from the end the same way, the bytes before it
+are sliced and only the statements after it are matched (our earlier instances were appended
+together at the end, so that is a small tail). Otherwise every statement is matched in turn (one
+regular expression per statement, read in 4 MiB blocks) so that the instances to remove can be
+dropped by ``#id``.
 
 What is written, per :class:`PsetAnnotation`: one ``IfcPropertySet`` holding one
 ``IfcPropertySingleValue`` per :class:`Prop` with a typed ``NominalValue`` (e.g.
@@ -80,6 +84,7 @@ from __future__ import annotations
 
 import base64
 import hashlib
+import io
 import math
 import mmap
 import os
@@ -866,17 +871,23 @@ _LEADING_EOL = re.compile(rb"^[ \t]*(\r\n|\r|\n)")
 _ANY_EOL = re.compile(rb"\r\n|\r|\n")
 _BLOCK = 1 << 22
 _COMMENT_OPEN = re.compile(rb"/\*")
+_TAIL_MAX = 1 << 24  # bytes of a re-run's tail held in memory at most (see _tail_rewrite)
 _FAST_COPY = True  # tests switch it off to compare with the statement scanner
 
 
 class _Copier:
     """Copies statements from the source to ``out``, dropping ids and inserting new lines."""
 
-    def __init__(self, src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> None:
+    def __init__(self, src: Path, out: BinaryIO, drop: set[int], lines: list[str], *, start: int = 0,
+                 state: str = "header", eol: bytes | None = None) -> None:
+        """``start``: the byte offset to begin at (a statement boundary), in ``state``; ``eol``:
+        the file's first line end when the copy starts past it."""
         self.src, self.out, self.drop, self.lines = src, out, drop, lines
-        self.state = "header"  # header -> data -> after
+        self.start = start
+        self.state = state  # header -> data -> after
         self.written = 0
-        self.eol: bytes | None = None  # first line end seen in the file
+        self.dropped = 0  # statements left out
+        self.eol: bytes | None = eol  # first line end seen in the file
 
     def _emit(self, data: bytes) -> None:
         self.out.write(data)
@@ -892,6 +903,7 @@ class _Copier:
         match = _STATEMENT.match
         drop = self.drop
         with open(self.src, "rb") as fh:
+            fh.seek(self.start)
             while True:
                 pos = 0  # next statement starts here
                 flushed = 0  # bytes of buf already written
@@ -903,6 +915,7 @@ class _Copier:
                         if drop and int(sid) in drop:
                             self._emit(buf[flushed:pos])
                             flushed = end
+                            self.dropped += 1
                     elif keyword is not None:
                         kw = keyword.upper()
                         if kw == b"DATA" and self.state == "header":
@@ -973,18 +986,8 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
                 if j is not None and re.match(rb"ENDSEC\s*;", mm[k : k + 64]) and _quotes_before(mm, k) % 2 == 0:
                     cut = j
                 end = k
-            start, data = 0, None  # a DATA statement before the cut (searched forward: it is near the top)
-            while data is None:
-                k = mm.find(b"DATA", start, cut)
-                if k < 0:
-                    return None
-                if (
-                    _statement_start(mm, k) is not None
-                    and re.match(rb"DATA\s*[;(]", mm[k : k + 64])
-                    and _quotes_before(mm, k) % 2 == 0
-                ):
-                    data = k
-                start = k + 1
+            if _data_statement(mm, cut) is None:
+                return None
             eol = _ANY_EOL.search(mm[: min(len(mm), 1 << 16)])
             block = _insertion(mm[cut : cut + 256], lines, eol.group(0) if eol else None)
             written = 0
@@ -996,10 +999,72 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
             return written
 
 
+def _data_statement(mm, before: int) -> int | None:
+    """Offset of a ``DATA`` statement (outside strings) before ``before``, searched from the top."""
+    start = 0
+    while True:
+        k = mm.find(b"DATA", start, before)
+        if k < 0:
+            return None
+        if (
+            _statement_start(mm, k) is not None
+            and re.match(rb"DATA\s*[;(]", mm[k : k + 64])
+            and _quotes_before(mm, k) % 2 == 0
+        ):
+            return k
+        start = k + 1
+
+
+def _tail_rewrite(src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> int | None:
+    """Fast path of a re-run when the file has no comments: our earlier instances sit together
+    near the end (the previous run appended them), so only the statements from the first
+    dropped one on are scanned; the bytes before it are copied with C-level slicing.
+
+    The first dropped statement (``#id=`` of the lowest id to drop) is found from the end; it
+    must begin a statement (only blanks back to a ';') outside any string (an even number of
+    apostrophes before it), after a DATA statement. The tail is scanned into memory first;
+    unless it holds every instance to drop (instance names are unique in a valid file,
+    ISO 10303-21 clause 6.3.2, from memory) nothing is written and None is returned, and the
+    caller scans the whole file."""
+    lowest = min(drop)
+    head_id = re.compile(rb"#%d\s*=" % lowest)
+    with open(src, "rb") as fh:
+        if os.fstat(fh.fileno()).st_size == 0:
+            return None
+        with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
+            if _COMMENT_OPEN.search(mm) is not None:
+                return None
+            end, cut = len(mm), None
+            while cut is None:
+                k = mm.rfind(b"#%d" % lowest, 0, end)
+                if k < 0:
+                    return None
+                j = _statement_start(mm, k)
+                if j is not None and head_id.match(mm, k) and _quotes_before(mm, k) % 2 == 0:
+                    cut = j
+                end = k
+            if len(mm) - cut > max(_TAIL_MAX, len(mm) // 2) or _data_statement(mm, cut) is None:
+                return None  # (a tail that large is streamed by the full scan instead of held in memory)
+            eol = _ANY_EOL.search(mm)
+            tail = io.BytesIO()
+            copier = _Copier(src, tail, drop, lines, start=cut, state="data", eol=eol.group(0) if eol else None)
+            try:
+                copier.run()
+            except InputError:  # no end of the DATA section in the tail: let the full scan say so
+                return None
+            if copier.dropped != len(drop):
+                return None
+            written = 0
+            for a in range(0, cut, _BLOCK):
+                written += out.write(mm[a : min(a + _BLOCK, cut)])
+            written += out.write(tail.getbuffer())
+            return written
+
+
 def _stream(src: Path, out: BinaryIO, drop: set[int], lines: list[str]) -> int:
     """Copy ``src`` to ``out`` dropping ``drop`` ids and inserting ``lines``; returns bytes written."""
-    if not drop and _FAST_COPY:
-        written = _plain_insert(src, out, lines)
+    if _FAST_COPY:
+        written = _tail_rewrite(src, out, drop, lines) if drop else _plain_insert(src, out, lines)
         if written is not None:
             return written
     return _Copier(src, out, drop, lines).run()

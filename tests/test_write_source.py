@@ -380,3 +380,74 @@ def test_no_report_without_out_is_a_one_line_error(tmp_path, capsys):
     _, err = capsys.readouterr()
     assert code == 2
     assert err.strip() == "swayscreen: error: --no-report applies to the files written with --out DIR; give --out as well"
+
+
+# --------------------------------------------------------------------------- re-run: only the tail is scanned
+
+
+def _annotated_sample(tmp_path: Path) -> tuple[Path, list[PsetAnnotation], int]:
+    """The 12-storey sample annotated once, its annotations and the lowest id we appended."""
+    sample = SAMPLES / "courtyard_12_mm.ifc"
+    takeoff, _ = read_model_and_source(sample)
+    anns = _annotations(takeoff)
+    first = tmp_path / "first.ifc"
+    rep = write_annotated(sample, first, anns)
+    return first, anns, rep.first_new_id
+
+
+def _rerun_both_ways(src: Path, anns, tmp_path: Path, monkeypatch) -> tuple[bytes, bytes, list[int]]:
+    """The re-run's bytes with the fast paths on (and where the scan started) and off."""
+    starts: list[int] = []
+    real_init = writing._Copier.__init__
+
+    def spy(self, *a, **k):
+        starts.append(k.get("start", 0))
+        real_init(self, *a, **k)
+
+    monkeypatch.setattr(writing._Copier, "__init__", spy)
+    write_annotated(src, tmp_path / "fast.ifc", anns)
+    monkeypatch.setattr(writing, "_FAST_COPY", False)
+    write_annotated(src, tmp_path / "scanned.ifc", anns)
+    monkeypatch.undo()
+    return (tmp_path / "fast.ifc").read_bytes(), (tmp_path / "scanned.ifc").read_bytes(), starts
+
+
+def test_rerun_scans_only_the_tail_and_agrees_with_the_full_scan(tmp_path, monkeypatch):
+    first, anns, lowest = _annotated_sample(tmp_path)
+    fast, scanned, starts = _rerun_both_ways(first, anns, tmp_path, monkeypatch)
+    assert fast == scanned == first.read_bytes()  # idempotent either way
+    raw = first.read_bytes()
+    # the fast path began at the statement of our lowest earlier instance (after its line end)
+    assert starts[0] == raw.index(b"#%d=" % lowest) - 1 and starts[1] == 0
+
+
+def test_rerun_with_an_earlier_instance_moved_to_the_top(tmp_path, monkeypatch):
+    """One of our earlier relations moved up to just after DATA (a tool re-ordered the file):
+    the tail misses it, so the whole file is scanned and the result is the same."""
+    first, anns, _ = _annotated_sample(tmp_path)
+    raw = first.read_bytes()
+    last = re.findall(rb"\n(#\d+=IFCRELDEFINESBYPROPERTIES\('[^\n]*;)", raw)[-1]
+    moved = raw.replace(b"\n" + last, b"", 1).replace(b"DATA;\n", b"DATA;\n" + last + b"\n", 1)
+    src = tmp_path / "moved.ifc"
+    src.write_bytes(moved)
+    fast, scanned, starts = _rerun_both_ways(src, anns, tmp_path, monkeypatch)
+    assert fast == scanned
+    assert len(starts) == 3 and starts[1] == 0  # tail tried, then the full scan, then the reference
+    assert fast == first.read_bytes()  # dropped at the top, written again in its place at the end
+    rels = [r for r in ifcopenshell.open(str(tmp_path / "fast.ifc")).by_type("IfcRelDefinesByProperties")
+            if (r.RelatingPropertyDefinition.Name or "").startswith("Swayscreen_")]
+    assert len(rels) == len(anns)
+
+
+def test_rerun_ignores_a_lookalike_statement_inside_a_string(tmp_path, monkeypatch):
+    """A name holding '; #<lowest id>=' after our instances: inside a string (an odd number of
+    apostrophes before it), so it is not taken for the start of the tail."""
+    first, anns, lowest = _annotated_sample(tmp_path)
+    raw = first.read_bytes()
+    k = raw.rindex(b"ENDSEC;")
+    trap = b"#9999999=IFCPROPERTYSINGLEVALUE('Note',$,IFCLABEL('x; #%d=IFCWALL(y)'),$);\n" % lowest
+    src = tmp_path / "trap.ifc"
+    src.write_bytes(raw[:k] + trap + raw[k:])
+    fast, scanned, starts = _rerun_both_ways(src, anns, tmp_path, monkeypatch)
+    assert fast == scanned and trap in fast
+    assert starts[0] == raw.index(b"#%d=" % lowest) - 1
