@@ -394,37 +394,51 @@ def _reusable(source, src: Path) -> bool:
 
 # IfcGloballyUniqueId: 22 characters of the base-64 alphabet 0-9 A-Z a-z _ $ (ISO 16739-1).
 _GUID = re.compile(r"[0-9A-Za-z_$]{22}")
-_QUOTED_GUID = re.compile(rb"'([0-9A-Za-z_$]{22})'")
 
 
-def _scan_global_ids(src: Path, targets: Iterable[str], ours: Iterable[str]) -> tuple[set[str], set[str]]:
-    """From the bytes of ``src``: the target GlobalIds that may name more than one entity, and
-    which of our new GlobalIds appear in the file at all.
+@dataclass(frozen=True)
+class _Scan:
+    """What one pass over the bytes found (see :func:`_scan_global_ids`)."""
 
-    The first set holds the targets quoted more than once in the file, and any target that is
-    not a well-formed GlobalId (it cannot be found that way): a superset of the GlobalIds the
-    parser reports as non-unique, because each entity writes its GlobalId as a string of the
-    basic alphabet, literally and quoted (ISO 10303-21 clause 6.4.3), so two entities sharing
-    one put it in the file twice. A GlobalId of ours that is nowhere in the file names no
-    entity, so it needs no lookup (a failed ``by_guid`` costs an exception). One C-level
-    regular-expression pass (about 0.05 s CPU on the 37 MB benchmark tower)."""
+    repeated: set[str]  # targets that may name more than one entity
+    present: set[str] | None  # our new GlobalIds that appear in the file (None: not known)
+    prefix_seen: bool  # the file quotes a string starting with our set-name prefix
+
+
+def _scan_global_ids(src: Path, targets: Iterable[str], ours: Iterable[str], prefix: str) -> _Scan:
+    """From the bytes of ``src``, in one C-level regular-expression pass (about 0.05 s CPU on
+    the 37 MB benchmark tower): which targets may name more than one entity, which of our new
+    GlobalIds appear at all, and whether any string starts with ``prefix``.
+
+    Repeated targets: those quoted more than once in the file, and any target that is not a
+    well-formed GlobalId or starts with ``prefix`` (the pass cannot count it). A superset of the
+    GlobalIds the parser reports as non-unique, because each entity writes its GlobalId as a
+    string of the basic alphabet, literally and quoted (ISO 10303-21 clause 6.4.3), so two
+    entities sharing one put it in the file twice. A GlobalId of ours that is nowhere in the
+    file names no entity and needs no lookup (a failed ``by_guid`` costs an exception). With no
+    quoted string starting with ``prefix`` the file holds no set of ours (the names are ASCII,
+    written literally)."""
+    head = prefix.encode("ascii")
     wanted: set[bytes] = set()
     odd: set[str] = set()
     for g in targets:
-        if _GUID.fullmatch(g):
-            wanted.add(g.encode("ascii"))
+        if _GUID.fullmatch(g) and not g.startswith(prefix):
+            wanted.add(g.encode("ascii") + b"'")
         else:
             odd.add(g)
-    mine = {g.encode("ascii") for g in ours}
+    mine = {g.encode("ascii") + b"'" for g in ours}
     found: list[bytes] = []
     with open(src, "rb") as fh:
         if os.fstat(fh.fileno()).st_size:
             with mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ) as mm:
-                found = _QUOTED_GUID.findall(mm)
+                # the prefix alternative first: a name like 'Swayscreen_CoreWallXY' is also 22
+                # GlobalId characters, and must count as a name of ours
+                found = re.compile(rb"'(" + re.escape(head) + rb"|[0-9A-Za-z_$]{22}')").findall(mm)
     counts = Counter(filter(wanted.__contains__, found))  # C-level filtering and counting
-    repeated = {g.decode("ascii") for g, n in counts.items() if n > 1}
-    present = {g.decode("ascii") for g in filter(mine.__contains__, found)}
-    return repeated | odd, present
+    repeated = {g[:-1].decode("ascii") for g, n in counts.items() if n > 1}
+    present = None if any(g.startswith(head) for g in mine) else \
+        {g[:-1].decode("ascii") for g in filter(mine.__contains__, found)}
+    return _Scan(repeated | odd, present, head in found)
 
 
 class _Targets:
@@ -539,10 +553,11 @@ def _candidate_sets(src: Path, prefix: str, model) -> list | None:
     return ours
 
 
-def _find_ours(model, owner_prefix: str, src: Path) -> tuple[set[int], int]:
-    """Ids of our earlier property sets, their relations and the properties only they use."""
+def _find_ours(model, owner_prefix: str, src: Path, *, none_in_file: bool = False) -> tuple[set[int], int]:
+    """Ids of our earlier property sets, their relations and the properties only they use.
+    ``none_in_file``: a scan of the bytes already found no string starting with our prefix."""
     prefix = owner_prefix + "_"
-    ours = _candidate_sets(src, prefix, model)
+    ours = [] if none_in_file else _candidate_sets(src, prefix, model)
     if ours is None:  # something unusual in the file: read every property set
         ours = [p for p in model.by_type("IfcPropertySet") if (p.Name or "").startswith(prefix)]
     our_ids = {p.id() for p in ours}
@@ -614,6 +629,22 @@ class _Builder:
         got = (entity.upper(), template, slots, may_be_unset)
         self._shapes[key] = got
         return got
+
+    def add_property(self, name: str, nominal: _Typed, description: str) -> int:
+        """One IfcPropertySingleValue (the most frequent line): what :meth:`add` writes for
+        ``Name``, ``Description`` (None when empty) and ``NominalValue``, without its per-call
+        checks (the layout is checked once)."""
+        keyword, template, (s_name, s_desc, s_nominal), _ = self._shape(
+            "IfcPropertySingleValue", ("Name", "Description", "NominalValue"))
+        values = template.copy()
+        values[s_name] = p21_string(name)
+        if description:
+            values[s_desc] = p21_string(description)
+        values[s_nominal] = f"{nominal.type_name.upper()}({nominal.literal})"
+        iid = self.next_id
+        self.next_id += 1
+        self.lines.append(f"#{iid}={keyword}({','.join(values)});")
+        return iid
 
     def add(self, entity: str, **attrs: object) -> int:
         keyword, template, slots, may_be_unset = self._shape(entity, tuple(attrs))
@@ -765,6 +796,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, s
                  _deterministic_guid(a.global_id, a.pset_name, "IfcRelDefinesByProperties")) for a in annotations]
     reused = _reusable(source, src)
     present: set[str] | None = None  # our GlobalIds found in the file; None: look each one up
+    none_of_ours = False  # True when the bytes hold no set name of ours
     if reused:
         model = source.model  # read-only: nothing below edits it
         stat: tuple[int, int] | None = (source.size_bytes, source.mtime_ns)
@@ -773,8 +805,9 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, s
         if known is not None:
             shared = set(known)
         else:
-            shared, present = _scan_global_ids(src, {a.global_id for a in annotations},
-                                               {g for pair in new_gids for g in pair})
+            scan = _scan_global_ids(src, {a.global_id for a in annotations},
+                                    {g for pair in new_gids for g in pair}, owner_prefix + "_")
+            shared, present, none_of_ours = scan.repeated, scan.present, not scan.prefix_seen
     else:
         stat = _stat_key(src)  # before the open: a change from here on is caught after the copy
         model = _open(src, lazy=True)
@@ -782,7 +815,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, s
     schema = _schema(model)
     targets = _Targets(model, schema, shared)
     leaves = _value_leaves(schema)
-    drop, replaced = _find_ours(model, owner_prefix, src)
+    drop, replaced = _find_ours(model, owner_prefix, src, none_in_file=none_of_ours)
 
     # New ids start just above the largest id that is kept (see module docstring).
     top = int(model.get_max_id())
@@ -812,17 +845,7 @@ def _plan(src: Path, annotations: Sequence[PsetAnnotation], owner_prefix: str, s
                 continue
             if clash.id() not in drop:
                 raise InputError(f"{where}: GlobalId {gid} already used by #{clash.id()}")
-        prop_ids = []
-        for prop in ann.props:
-            nominal, description = values.typed(prop, where)
-            prop_ids.append(
-                builder.add(
-                    "IfcPropertySingleValue",
-                    Name=prop.name,
-                    Description=description or None,
-                    NominalValue=nominal,
-                )
-            )
+        prop_ids = [builder.add_property(prop.name, *values.typed(prop, where)) for prop in ann.props]
         n_props += len(prop_ids)
         pset = builder.add(
             "IfcPropertySet",

@@ -281,11 +281,31 @@ def test_byte_scan_finds_repeated_and_present_guids(tmp_path):
     f = ifcopenshell.open(str(path))
     storey = f.by_type("IfcBuildingStorey")[0].GlobalId
     absent = ifcopenshell.guid.compress(uuid.uuid4().hex)
-    repeated, present = writing._scan_global_ids(path, {gid, storey, "not a GlobalId"}, {storey, absent})
+    scan = writing._scan_global_ids(path, {gid, storey, "not a GlobalId"}, {storey, absent}, "Swayscreen_")
     # the malformed one cannot be found in the bytes, so it is looked up among all entities
-    assert repeated == {gid, "not a GlobalId"}
-    assert present == {storey}  # in the file once; the fresh GlobalId nowhere
-    assert writing._scan_global_ids(path, set(), {absent}) == (set(), set())
+    assert scan.repeated == {gid, "not a GlobalId"}
+    assert scan.present == {storey}  # in the file once; the fresh GlobalId nowhere
+    assert not scan.prefix_seen
+    assert writing._scan_global_ids(path, set(), {absent}, "Swayscreen_").present == set()
+
+
+def test_byte_scan_sees_our_names_even_when_they_look_like_guids(tmp_path):
+    """A set name of ours that is also 22 GlobalId characters ('Swayscreen_CoreWallXYZ') still
+    counts as ours, and a target GlobalId that happens to start with our prefix is left to the
+    lookup among all entities rather than counted in the bytes."""
+    sample = SAMPLES / "courtyard_12_m.ifc"
+    takeoff, _ = read_model_and_source(sample)
+    wall = takeoff.buildings[0].storeys[1].walls[0].global_id
+    name = "Swayscreen_CoreWallXYZ"
+    assert writing._GUID.fullmatch(name)  # 22 characters of the GlobalId alphabet
+    out = tmp_path / "named.ifc"
+    write_annotated(sample, out, [PsetAnnotation(wall, name, (Prop("Closed", True, "IfcBoolean"),))])
+    scan = writing._scan_global_ids(out, {wall, "Swayscreen_0123456789A"}, set(), "Swayscreen_")
+    assert scan.prefix_seen
+    assert scan.repeated == {"Swayscreen_0123456789A"}
+    _, source = read_model_and_source(out)
+    rep = write_annotated(out, tmp_path / "again.ifc", [], source=source)
+    assert rep.reused_parse and rep.psets_replaced == 1  # found and removed
 
 
 # --------------------------------------------------------------------------- GlobalId arithmetic
@@ -451,3 +471,18 @@ def test_rerun_ignores_a_lookalike_statement_inside_a_string(tmp_path, monkeypat
     fast, scanned, starts = _rerun_both_ways(src, anns, tmp_path, monkeypatch)
     assert fast == scanned and trap in fast
     assert starts[0] == raw.index(b"#%d=" % lowest) - 1
+
+
+@pytest.mark.parametrize("schema", ["IFC2X3", "IFC4", "IFC4X3_ADD2"])
+def test_property_line_shortcut_writes_what_the_general_builder_writes(schema):
+    """IfcPropertySingleValue in each schema's attribute order (IFC4X3 renamed Description to
+    Specification; ISO 16739-1), with and without a description."""
+    import ifcopenshell.ifcopenshell_wrapper as w
+
+    s = w.schema_by_name(schema)
+    general, short = writing._Builder(s, 100), writing._Builder(s, 100)
+    for name, nominal, description in (("Mass", writing._Typed("IfcMassMeasure", "1.5"), ""),
+                                       ("Note's", writing._Typed("IfcText", "'x'"), "ünï [unit: m]")):
+        general.add("IfcPropertySingleValue", Name=name, Description=description or None, NominalValue=nominal)
+        short.add_property(name, nominal, description)
+    assert short.lines == general.lines
