@@ -254,6 +254,8 @@ class SourceFile:
     size_bytes: int
     mtime_ns: int
     model: object = field(repr=False, compare=False)
+    shared_global_ids: frozenset[str] = frozenset()
+    """GlobalIds the parser saw on more than one instance (from its log at open time)."""
 
     def unchanged(self) -> bool:
         """True when the file on disk still has the size and modification time it was read with."""
@@ -400,6 +402,7 @@ class _Reader:
         self.where = str(path)
         self.levels = levels
         self.warnings, dup = _log_findings(path, log)
+        self.shared_global_ids = dup
         self.dup_first = self._duplicates(dup) if dup else {}
         self.mesh_ids: list[str] = []
         self.mesh_types: Counter[str] = Counter()
@@ -1084,11 +1087,17 @@ def read_model_and_source(path: str | Path, levels: LevelSettings | None = None)
     """
     levels = levels or LevelSettings()
     p = Path(path)
+    try:  # size and time before the open: a file replaced meanwhile then reads as changed
+        st = p.stat()
+    except OSError:
+        st = None  # missing or unreadable: the open below says so in one line
     model, log = _open_with_log(p)
-    st = p.stat()
+    if st is None:
+        st = p.stat()
     try:
-        takeoff = _Reader(model, p, levels, log).run()
-        return takeoff, SourceFile(p, st.st_size, st.st_mtime_ns, model)
+        reader = _Reader(model, p, levels, log)
+        takeoff = reader.run()
+        return takeoff, SourceFile(p, st.st_size, st.st_mtime_ns, model, frozenset(reader.shared_global_ids))
     except InputError:
         raise
     except RecursionError:
