@@ -63,7 +63,7 @@ import bisect
 import math
 import re
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import networkx as nx
 import numpy as np
@@ -72,6 +72,7 @@ from shapely.geometry import LineString, MultiPolygon, Polygon
 
 from .core_settings import StiffnessSettings
 from .errors import InputError
+from .plan_moments import ShapeTable
 from .sections import WallSegment, combine_section, thin_walled_properties
 from .stick import CoreSummary, SectionProps
 from .takeoff import Storey, Wall
@@ -132,11 +133,13 @@ class SystemSection:
 def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
     """Axis end points and thickness; from the footprint's minimum rotated rectangle when
     the axis or thickness is missing. None when neither gives a usable wall."""
-    (x0, y0), (x1, y1) = ((float(v) for v in q) for q in w.axis_m)
+    (x0, y0), (x1, y1) = w.axis_m
+    x0, y0, x1, y1 = float(x0), float(y0), float(x1), float(y1)
     t = float(w.thickness_m)
     if (math.isfinite(x0) and math.isfinite(y0) and math.isfinite(x1) and math.isfinite(y1)
             and math.dist((x0, y0), (x1, y1)) > 1e-6 and t > 0 and math.isfinite(t)):
-        return np.array([x0, y0]), np.array([x1, y1]), t
+        ends = np.array([[x0, y0], [x1, y1]])
+        return ends[0], ends[1], t
     fp = w.footprint
     if fp is None or fp.is_empty or not fp.area > 0:
         return None
@@ -163,8 +166,22 @@ def _line_of(w: Wall, lines: dict | None) -> tuple[np.ndarray, np.ndarray, float
         return _wall_line(w)
     got = lines.get(id(w))
     if got is None or got[0] is not w:
-        got = lines[id(w)] = (w, _wall_line(w))
+        got = _line_entry(w, lines)
     return got[1]
+
+
+def _line_entry(w: Wall, lines: dict) -> tuple[Wall, tuple[np.ndarray, np.ndarray, float] | None, tuple | None]:
+    """The entry of ``lines`` for ``w``: (wall, centre line, the line as a tuple of floats
+    (x0, y0, x1, y1, t) or None), made when missing."""
+    got = lines.get(id(w))
+    if got is None or got[0] is not w:
+        line = _wall_line(w)
+        key = None
+        if line is not None:
+            p0, p1, t = line
+            key = (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t))
+        got = lines[id(w)] = (w, line, key)
+    return got
 
 
 def _footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon | MultiPolygon:
@@ -368,10 +385,14 @@ def _wall_signature(w: Wall, line: tuple[np.ndarray, np.ndarray, float], slits: 
     """Everything of a wall that its system's section depends on: axis, thickness, footprint
     (WKB bytes, ``wkb`` when already known) and the cut positions. Walls with equal signatures
     give equal sections."""
-    p0, p1, t = line
     if wkb is None:
         wkb = w.footprint.wkb if w.footprint is not None else b""
-    return (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t), wkb, tuple(float(c) for c in slits))
+    return (*_line_tuple(line), wkb, tuple(float(c) for c in slits))
+
+
+def _line_tuple(line: tuple[np.ndarray, np.ndarray, float]) -> tuple[float, float, float, float, float]:
+    p0, p1, t = line
+    return (float(p0[0]), float(p0[1]), float(p1[0]), float(p1[1]), float(t))
 
 
 def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[float, ...]], mode: str
@@ -422,8 +443,13 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
             group_wkbs = [wkbs[id(w)] for w in walls]
         else:
             group_wkbs = _footprint_wkbs(walls)
-        key = (mode, tuple(sorted(_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
-                                  for w, wkb in zip(walls, group_wkbs))))
+        if line_cache is not None:
+            sigs = [(*_line_entry(w, line_cache)[2], wkb, tuple(float(c) for c in slits.get(w.global_id, ())))
+                    for w, wkb in zip(walls, group_wkbs)]
+        else:
+            sigs = [_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
+                    for w, wkb in zip(walls, group_wkbs)]
+        key = (mode, tuple(sorted(sigs)))
         geo = memo.get(key)
         if geo is None:
             geo = memo[key] = _system_geometry(walls, lines, slits, mode)
@@ -473,6 +499,7 @@ def _find_systems(
     tol_m: float = JOIN_TOL_M,
     memo: dict | None = None,
     lines: dict | None = None,
+    shapes: ShapeTable | None = None,
 ) -> tuple[list[SystemSection], list[str], tuple[int, int]]:
     kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m, lines)
     if not kept:
@@ -481,7 +508,10 @@ def _find_systems(
     wkbs = None
     if memo is not None:
         # storeys with the same footprints (in the same order) have the same wall graph
-        fp_wkbs = _footprint_wkbs(kept)
+        if shapes is not None:
+            fp_wkbs = [b if b is not None else b"" for b in shapes.wkbs(kept, [w.footprint for w in kept])]
+        else:
+            fp_wkbs = _footprint_wkbs(kept)
         wkbs = {id(w): b for w, b in zip(kept, fp_wkbs)}
         print_wkbs = tuple(b if p is w.footprint else p.wkb for w, p, b in zip(kept, prints, fp_wkbs))
         gkey = ("wall graph", float(tol_m), print_wkbs)
@@ -592,6 +622,7 @@ def find_systems_by_storey(
     *,
     load_bearing_only: bool = False,
     include_spanning_walls: bool = True,
+    shapes: ShapeTable | None = None,
 ) -> tuple[dict[str, list[SystemSection]], list[CoreSummary], list[str]]:
     """Systems of every storey with ids stable over the height (see the module docstring).
 
@@ -601,6 +632,8 @@ def find_systems_by_storey(
         load_bearing_only: keep only walls flagged load-bearing.
         include_spanning_walls: also count on a storey the walls of other storeys whose
             body spans its mid-height.
+        shapes: the walls' footprint areas and WKB bytes when already computed (a derive
+            shares them between its stages); computed here otherwise.
 
     Returns:
         (storey GlobalId -> its systems (largest plan first), one
@@ -626,10 +659,13 @@ def find_systems_by_storey(
     span_index = _SpanIndex(owned)
     memo: dict = {}  # wall-group geometry -> section and plan, shared over the storeys
     lines: dict = {}  # id(wall) -> (wall, centre line), see _line_of
+    if shapes is None:
+        shapes = ShapeTable()
+        shapes.add([w for _, w in owned], [w.footprint for _, w in owned])
     for st in order:
         walls = _storey_walls(st, span_index, include_spanning_walls)
         systems, warn, (n_partition, n_flagged) = _find_systems(walls, stiffness, load_bearing_only=load_bearing_only,
-                                                                 memo=memo, lines=lines)
+                                                                 memo=memo, lines=lines, shapes=shapes)
         if walls and not systems:
             warn.append(f"none of its {len(walls)} wall(s) is in the lateral system (non-load-bearing, partitions or unusable)")
         per_storey_raw.append((systems, warn, walls))
@@ -645,6 +681,7 @@ def find_systems_by_storey(
 
     prev: list[SystemSection] = []
     overlap_memo: dict[tuple[int, int], float] = {}
+    query_memo: dict[tuple, tuple] = {}  # plan ids -> intersecting pairs (entries hold the plans)
     uncovered_memo: dict[tuple, tuple[float, float]] = {}
     for k, st in enumerate(order):
         systems, warn, walls = per_storey_raw[k]
@@ -658,9 +695,16 @@ def find_systems_by_storey(
         overlaps: dict[int, list[str]] = {}
         pool = [(1, s.system_id, s.plan) for s in prev] + [(0, sid, old.plan) for sid, old in older]
         if pool and systems:
-            tree = shapely.STRtree([c[2] for c in pool])
-            hits_new, hits_old = tree.query([s.plan for s in systems], predicate="intersects")
-            for n, m in zip(hits_new.tolist(), hits_old.tolist()):
+            # storeys with the same plans (the memo shares them) meet the same candidates
+            old_plans = [c[2] for c in pool]
+            new_plans = [s.plan for s in systems]
+            qkey = (tuple(map(id, old_plans)), tuple(map(id, new_plans)))
+            hit = query_memo.get(qkey)
+            if hit is None:
+                tree = shapely.STRtree(old_plans)
+                hits_new, hits_old = tree.query(new_plans, predicate="intersects")
+                hit = query_memo[qkey] = (list(zip(hits_new.tolist(), hits_old.tolist())), old_plans, new_plans)
+            for n, m in hit[0]:
                 prio, sid, old_plan = pool[m]
                 okey = (id(systems[n].plan), id(old_plan))  # plans are alive until the end: ids are stable
                 ov = overlap_memo.get(okey)
@@ -690,7 +734,7 @@ def find_systems_by_storey(
                 n_ids += 1
                 if k > 0:
                     warnings.append(f"{where}: new {new.kind} {sid} appears (walls {', '.join(new.wall_ids)}) with nothing below it")
-            renamed.append(replace(new, system_id=sid))
+            renamed.append(SystemSection(sid, new.kind, new.wall_ids, new.section, new.closed, new.plan, new.note))
         # per matched system: merges, kind and closure changes, walls not continued
         prev_by_id = {s.system_id: s for s in prev}
         for n, new in enumerate(renamed):
@@ -712,8 +756,8 @@ def find_systems_by_storey(
                 if w is None:
                     continue
                 # _uncovered depends on the wall's centre line only
-                line = _line_of(w, lines)
-                ukey = ((*line[0].tolist(), *line[1].tolist(), line[2]) if line is not None else gid, id(new.plan))
+                lk = _line_entry(w, lines)[2]
+                ukey = (lk if lk is not None else gid, id(new.plan))
                 got = uncovered_memo.get(ukey)
                 if got is None:
                     got = uncovered_memo[ukey] = _uncovered(w, new.plan, JOIN_TOL_M)
@@ -770,7 +814,8 @@ def find_systems_by_storey(
     def name(text: str) -> str:
         return token.sub(lambda m: final[m.group(0)], text)
 
-    by_storey = {gid: [replace(s, system_id=final[s.system_id]) for s in systems] for gid, systems in by_storey.items()}
+    by_storey = {gid: [SystemSection(final[s.system_id], s.kind, s.wall_ids, s.section, s.closed, s.plan, s.note)
+                       for s in systems] for gid, systems in by_storey.items()}
     summaries = [
         CoreSummary(
             id=final[sid],

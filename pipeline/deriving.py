@@ -34,14 +34,13 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-import numpy as np
-import shapely
 from shapely.ops import unary_union
 
 from .core_settings import LevelSettings, LoadSettings, MaterialSettings, StiffnessSettings
 from .floors import Floor, FloorLayout, plan_floors
 from .masses import LevelMass, floor_masses, floor_slabs
 from .materials import MaterialBook
+from .plan_moments import ShapeTable
 from .stick import CoreSummary, Level, Segment, StickModel
 from .stiffness import (ColumnInput, RestraintReport, SlabField, cantilever_segment, column_frame,
                         storey_stiffness_centre)
@@ -108,10 +107,18 @@ def _level(f: Floor, lm: LevelMass) -> Level:
         plate=lm.plate, usage=None if f.is_roof else f.usage)
 
 
-def _find_systems(storeys: Sequence[Storey], stiffness: StiffnessSettings):
+def _find_systems(storeys: Sequence[Storey], stiffness: StiffnessSettings, shapes: ShapeTable | None = None):
     from .cores import find_systems_by_storey  # written alongside; imported late so masses work without it
 
-    return find_systems_by_storey(storeys, stiffness)
+    return find_systems_by_storey(storeys, stiffness, shapes=shapes)
+
+
+def _shape_table(layout: FloorLayout) -> ShapeTable:
+    """Plan areas and WKB bytes of the layout's walls and columns, shared by the stages."""
+    table = ShapeTable()
+    table.add(layout.walls, [w.footprint for w in layout.walls])
+    table.add(layout.columns, [c.section for c in layout.columns])
+    return table
 
 
 class _Memo:
@@ -121,7 +128,7 @@ class _Memo:
     the plan area, WKB bytes and resolved material are looked up once (by object identity;
     the entries hold the objects, so their ids stay unique while the memo lives)."""
 
-    def __init__(self, layout: FloorLayout, book: MaterialBook | None = None) -> None:
+    def __init__(self, layout: FloorLayout, book: MaterialBook | None = None, shapes: ShapeTable | None = None) -> None:
         self.walls_by_id = {w.global_id: w for w in layout.walls}
         self.fields: dict[tuple, SlabField] = {}
         self.field_at: dict[int, SlabField] = {}
@@ -129,24 +136,13 @@ class _Memo:
         self.springs: dict = {}
         self.book = book
         self.materials: dict[int, tuple[Any, Any]] = {}
-        self.shapes: dict[int, tuple[Any, float, bytes | None]] = {}  # id(element) -> (element, area, wkb)
-        self._add_shapes(layout.walls, "footprint")
-        self._add_shapes(layout.columns, "section")
-
-    def _add_shapes(self, elements: Sequence[Any], attr: str) -> None:
-        items = [(e, getattr(e, attr)) for e in elements]
-        items = [(e, g) for e, g in items if g is not None]
-        if not items:
-            return
-        geoms = np.empty(len(items), dtype=object)
-        geoms[:] = [g for _, g in items]
-        for (e, _), area, wkb in zip(items, shapely.area(geoms).tolist(), shapely.to_wkb(geoms).tolist()):
-            self.shapes[id(e)] = (e, area, wkb)
+        self.shapes = shapes if shapes is not None else _shape_table(layout)
+        self.rows = self.shapes.rows
 
     def _shape(self, element: Any, geom: Any) -> tuple[Any, float, bytes | None]:
-        got = self.shapes.get(id(element))
+        got = self.rows.get(id(element))
         if got is None or got[0] is not element:
-            got = self.shapes[id(element)] = (element, float(geom.area), geom.wkb)
+            got = self.shapes.row(element, geom)
         return got
 
     def area(self, element: Any, geom: Any) -> float:
@@ -167,14 +163,14 @@ class _Memo:
     def columns(self, storeys: Sequence[Storey], book: MaterialBook) -> list[tuple[Any, bytes, float]]:
         """(column, section WKB, E Pa) of the storeys' columns with a section of positive area,
         in order (materials resolved in that order, as a loop calling ``book.get`` would)."""
-        shapes, mats = self.shapes, self.materials
+        rows, mats = self.rows, self.materials
         out = []
         for s in storeys:
             for c in s.columns:
                 sec = c.section
                 if sec is None:
                     continue
-                got = shapes.get(id(c))
+                got = rows.get(id(c))
                 if got is None or got[0] is not c:
                     got = self._shape(c, sec)
                 if not got[1] > 0:
@@ -293,7 +289,8 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
         return DerivedModel(None, (), tuple(book.lines()), tuple(warnings), tuple(missing),
                             base_elevation_m=layout.base_elevation_m)
 
-    masses, mass_warnings = floor_masses(layout, book, loads)
+    shapes = _shape_table(layout)
+    masses, mass_warnings = floor_masses(layout, book, loads, shapes=shapes)
     warnings.extend(mass_warnings)
     if not masses:
         missing.append("floor masses: no slabs, walls or columns with a plan area, so no masses or stiffness")
@@ -320,7 +317,7 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
 
     storeys = sorted(building.above_grade, key=lambda s: s.elevation_m)
     try:
-        systems, cores, core_warnings = _find_systems(storeys, stiff)
+        systems, cores, core_warnings = _find_systems(storeys, stiff, shapes)
     except ImportError as exc:
         missing.append(f"lateral system: the core finder is not available ({exc}), so no stick model")
         return done(None)
@@ -331,7 +328,7 @@ def derive_stick(building: BuildingTakeoff, settings: Any, *, true_north_deg: fl
     restraint: list[RestraintReport] = []
     own: list[bool] = []
     per_level: list[list[Segment]] = []
-    memo = _Memo(layout, book)
+    memo = _Memo(layout, book, shapes)
     for j, f in enumerate(layout.floors):
         segs, rep = _storey_segments(layout, j, f.segment_storeys, systems, book, stiff, warnings, memo)
         per_level.append(segs)

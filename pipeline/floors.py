@@ -34,7 +34,7 @@ from dataclasses import dataclass
 from .core_settings import LevelSettings
 from .takeoff import BuildingTakeoff, Column, Slab, Storey, Wall
 
-__all__ = ["ROOF_MIN_ELEMENT_M", "Floor", "FloorLayout", "plan_floors", "vertical_shares"]
+__all__ = ["ROOF_MIN_ELEMENT_M", "Floor", "FloorLayout", "plan_floors", "vertical_shares", "vertical_share_pairs"]
 
 ROOF_MIN_ELEMENT_M = 2.0
 """Walls/columns shorter than this on the top storey are parapets or upstands, not a storey
@@ -136,6 +136,32 @@ def vertical_shares(nodes: tuple[float, ...] | list[float], z0: float, z1: float
     if z1 > nodes[-1]:
         out[-1] += (z1 - max(z0, nodes[-1])) / length
     return out
+
+
+def vertical_share_pairs(nodes: tuple[float, ...] | list[float], z0: float, z1: float) -> tuple[tuple[int, float], ...]:
+    """The non-zero entries of :func:`vertical_shares` as (floor index, fraction), in floor order,
+    found without a list over all floors (the same additions in the same order, so the same
+    numbers): cost grows with the floors the piece spans, not with the building."""
+    n = len(nodes) - 1
+    length = z1 - z0
+    if n <= 0 or length <= 0.0:
+        return ()
+    out: dict[int, float] = {}
+    first = max(bisect.bisect_right(nodes, z0) - 1, 0)
+    last = min(bisect.bisect_left(nodes, z1), n)
+    for k in range(first, last):
+        lo, hi = nodes[k], nodes[k + 1]
+        c, d = max(z0, lo), min(z1, hi)
+        if d <= c:
+            continue
+        part = (d - c) / length
+        upper = part * ((c + d) / 2 - lo) / (hi - lo)
+        out[k] = out.get(k, 0.0) + upper
+        if k > 0:
+            out[k - 1] = out.get(k - 1, 0.0) + (part - upper)
+    if z1 > nodes[-1]:
+        out[n - 1] = out.get(n - 1, 0.0) + (z1 - max(z0, nodes[-1])) / length
+    return tuple((i, f) for i, f in sorted(out.items()) if f)
 
 
 def _nearest(levels_z: list[float], z: float) -> int:

@@ -52,9 +52,9 @@ from shapely.ops import unary_union
 
 from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
-from .floors import Floor, FloorLayout, vertical_shares
+from .floors import Floor, FloorLayout, vertical_share_pairs
 from .materials import MaterialBook
-from .plan_moments import MassMoments, area_moments, area_moments_array, outline_moments, polygons_of
+from .plan_moments import MassMoments, ShapeTable, area_moments, area_moments_array, outline_moments, polygons_of
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -158,7 +158,7 @@ class _Shares:
         key = (z0, z1)
         got = self.memo.get(key)
         if got is None:
-            got = self.memo[key] = tuple((i, f) for i, f in enumerate(vertical_shares(self.nodes, z0, z1)) if f)
+            got = self.memo[key] = vertical_share_pairs(self.nodes, z0, z1)
         return got
 
 
@@ -168,18 +168,22 @@ def _geometries(shapes: Sequence[BaseGeometry | None]) -> np.ndarray:
     return arr
 
 
-def _moments_table(shapes: Sequence[BaseGeometry], ref: tuple[float, float]) -> np.ndarray:
+def _moments_table(shapes: Sequence[BaseGeometry], ref: tuple[float, float],
+                   wkbs: Sequence[bytes | None] | None = None) -> np.ndarray:
     """:func:`~swayscreen.pipeline.plan_moments.area_moments_array` of ``shapes``, computed once
     per distinct shape (equal WKB bytes: equal coordinates, equal numbers); storeys of a tower
-    repeat the same footprints."""
+    repeat the same footprints. ``wkbs``: the shapes' WKB bytes when already known."""
     if not shapes:
         return np.zeros((0, 6))
-    keys: dict[bytes, int] = {}
-    inverse = [keys.setdefault(b, len(keys)) for b in shapely.to_wkb(_geometries(shapes)).tolist()]
-    first: dict[int, BaseGeometry] = {}
-    for k, g in zip(inverse, shapes):
-        first.setdefault(k, g)
-    return area_moments_array([first[k] for k in range(len(keys))], ref)[np.array(inverse, dtype=np.intp)]
+    if wkbs is None:
+        wkbs = shapely.to_wkb(_geometries(shapes)).tolist()
+    first: dict[bytes | None, BaseGeometry] = {}
+    for b, g in zip(wkbs, shapes):
+        if b not in first:
+            first[b] = g
+    index = {b: k for k, b in enumerate(first)}
+    inverse = np.array([index[b] for b in wkbs], dtype=np.intp)
+    return area_moments_array(list(first.values()), ref)[inverse]
 
 
 def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.ndarray, z0: list[float],
@@ -194,8 +198,10 @@ def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.nda
     out = [MassMoments(ref) for _ in range(n)]
     if not len(mass_kg):
         return out
-    keys: dict[tuple[float, float], int] = {}
-    group = np.array([keys.setdefault(k, len(keys)) for k in zip(z0, z1)], dtype=np.intp)
+    pairs = list(zip(z0, z1))
+    index = {k: g for g, k in enumerate(dict.fromkeys(pairs))}
+    keys = list(index)
+    group = np.array([index[k] for k in pairs], dtype=np.intp)
     floors: list[int] = []
     fracs: list[float] = []
     counts: list[int] = []
@@ -226,7 +232,8 @@ def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.nda
 
 
 def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
-              warnings: list[str]) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
+              warnings: list[str], table: ShapeTable | None = None
+              ) -> tuple[list[MassMoments], list[MassMoments], list[MassMoments]]:
     nodes = layout.nodes_m
     shares = _Shares(nodes)
     n = len(layout.floors)
@@ -236,9 +243,14 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     partitions: list[float] = []
     # plan areas, emptiness and moments of every wall, opening hole and column in one
     # vectorised pass each; the element loops only collect numbers
+    if table is None:
+        table = ShapeTable()
+        table.add(layout.walls, [w.footprint for w in layout.walls])
+        table.add(layout.columns, [c.section for c in layout.columns])
     fps = _geometries([w.footprint for w in layout.walls])
     empty = shapely.is_empty(fps).tolist()
-    areas = shapely.area(fps).tolist()
+    wall_rows = table.rows_of(layout.walls, fps)
+    areas = [r[1] for r in wall_rows]
     kept_walls = []
     for k, w in enumerate(layout.walls):
         if w.load_bearing is False or (w.load_bearing is None and 0 < w.thickness_m < PARTITION_MAX_THICKNESS_M):
@@ -250,7 +262,7 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
                 and not empty[k] and areas[k] > 0):
             skipped += 1
             continue
-        kept_walls.append((w, mat, areas[k]))
+        kept_walls.append((w, mat, areas[k], wall_rows[k][2]))
     # items in lumping order: each wall, then its opening holes (negative mass)
     prints: list[BaseGeometry] = []
     holes: list[list[tuple[float, float]]] = []
@@ -259,7 +271,7 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     item_mass: list[float] = []  # walls: mass; holes: density (mass set from the hole's area below)
     z0: list[float] = []
     z1: list[float] = []
-    for w, mat, area in kept_walls:
+    for w, mat, area, _ in kept_walls:
         base, h, rho = w.base_elevation_m, w.height_m, mat.density_kg_m3
         prints.append(w.footprint)
         item_mass.append(area * h * rho)
@@ -281,11 +293,11 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     walls = [MassMoments(ref) for _ in range(n)]
     if item_mass:
         masses = np.array(item_mass, dtype=float)
-        table = np.zeros((len(item_mass), 6))
+        moments = np.zeros((len(item_mass), 6))
         idx = np.array(hole_of, dtype=np.intp)
         is_wall = np.ones(len(item_mass), dtype=bool)
         is_wall[idx] = False
-        table[is_wall] = _moments_table(prints, ref)
+        moments[is_wall] = _moments_table(prints, ref, [r[3] for r in kept_walls])
         if holes:
             # opening holes repeat over the storeys: one polygon per distinct rectangle
             keys: dict[tuple, int] = {}
@@ -293,25 +305,23 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             unique = shapely.polygons(np.array(list(keys), dtype=float))
             sill_head = np.array(hole_z, dtype=float)
             masses[idx] = -(shapely.area(unique)[inverse] * (sill_head[:, 1] - sill_head[:, 0]) * masses[idx])
-            table[idx] = area_moments_array(list(unique), ref)[inverse]
-        walls = _lumped(n, ref, table, masses, z0, z1, shares)
+            moments[idx] = area_moments_array(list(unique), ref)[inverse]
+        walls = _lumped(n, ref, moments, masses, z0, z1, shares)
     secs = _geometries([c.section for c in layout.columns])
     empty = shapely.is_empty(secs).tolist()
-    areas = shapely.area(secs).tolist()
-    kept_cols: list[BaseGeometry] = []
-    item_mass, z0, z1 = [], [], []
-    for k, c in enumerate(layout.columns):
-        mat = book.get(c.material, "columns")
-        h = c.height_m
-        if not (isfinite(h) and isfinite(c.base_elevation_m) and h > 0 and c.section is not None
-                and not empty[k] and areas[k] > 0):
-            skipped += 1
-            continue
-        kept_cols.append(c.section)
-        item_mass.append(areas[k] * h * mat.density_kg_m3)
-        z0.append(c.base_elevation_m)
-        z1.append(c.top_elevation_m)
-    cols = _lumped(n, ref, _moments_table(kept_cols, ref), np.array(item_mass, dtype=float), z0, z1, shares)
+    col_rows = table.rows_of(layout.columns, secs)
+    get = book.get
+    mats = [get(c.material, "columns") for c in layout.columns]  # one use counted per column, in order
+    ok = [isfinite(c.height_m) and isfinite(c.base_elevation_m) and c.height_m > 0 and c.section is not None
+          and not e and r[1] > 0 for c, e, r in zip(layout.columns, empty, col_rows)]
+    skipped += ok.count(False)
+    kept = [(c, m, r) for c, m, r, keep in zip(layout.columns, mats, col_rows, ok) if keep]
+    kept_cols = [c.section for c, _, _ in kept]
+    col_wkbs = [r[2] for _, _, r in kept]
+    item_mass = [r[1] * c.height_m * m.density_kg_m3 for c, m, r in kept]
+    z0 = [c.base_elevation_m for c, _, _ in kept]
+    z1 = [c.top_elevation_m for c, _, _ in kept]
+    cols = _lumped(n, ref, _moments_table(kept_cols, ref, col_wkbs), np.array(item_mass, dtype=float), z0, z1, shares)
     for sl in layout.loose_slabs:
         mat = book.get(sl.material, "slabs")
         if sl.footprint.is_empty or sl.area_m2 <= 0:
@@ -370,16 +380,19 @@ def _hull_of(floor: Floor) -> BaseGeometry | None:
     return None
 
 
-def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings
+def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings, *, shapes: ShapeTable | None = None
                  ) -> tuple[list[LevelMass], list[str]]:
-    """The mass of every floor in ``layout`` (see the module doc); returns (masses, warnings)."""
+    """The mass of every floor in ``layout`` (see the module doc); returns (masses, warnings).
+
+    ``shapes``: plan areas and WKB bytes of the layout's walls and columns when already
+    computed (shared with the other stages of a derive)."""
     warnings: list[str] = []
     floors = layout.floors
     if not floors:
         return [], warnings
     ref = mass_reference_point(layout)
     kg_per_kpa = 1000.0 / G
-    walls, cols, loose = _vertical(layout, book, ref, warnings)
+    walls, cols, loose = _vertical(layout, book, ref, warnings, shapes)
     any_slab = any(f.slabs for f in floors)
     if not any_slab:
         return _bulk(layout, loads, ref, warnings), warnings

@@ -24,7 +24,7 @@ from shapely.geometry.base import BaseGeometry
 from shapely.geometry.polygon import orient
 
 __all__ = ["AreaMoments", "polygons_of", "area_moments", "area_moments_many", "area_moments_array", "outline_moments",
-           "MassMoments"]
+           "MassMoments", "ShapeTable"]
 
 
 @dataclass(frozen=True)
@@ -267,3 +267,51 @@ class MassMoments:
             return 0.0
         dx, dy = self.mx / self.m, self.my / self.m
         return max(self.mr2 - self.m * (dx * dx + dy * dy), 0.0)
+
+
+class ShapeTable:
+    """Plan area and WKB bytes of elements' plan shapes, computed in one vectorised pass and
+    looked up by element identity, so the stages of one derive share them.
+
+    ``shapely.area`` and ``shapely.to_wkb`` give the same numbers and bytes as ``shape.area``
+    and ``shape.wkb`` one by one. Entries hold the element, so its ``id`` stays unique while
+    the table lives; an element not added is computed when first asked for.
+    """
+
+    def __init__(self) -> None:
+        self.rows: dict[int, tuple[object, float, bytes | None]] = {}
+
+    def add(self, elements: Sequence[object], shapes: Sequence[BaseGeometry | None]) -> None:
+        """Add ``elements`` with their plan shapes (None: area NaN, WKB None)."""
+        if not elements:
+            return
+        geoms = np.empty(len(shapes), dtype=object)
+        geoms[:] = list(shapes)
+        rows = self.rows
+        for e, a, b in zip(elements, shapely.area(geoms).tolist(), shapely.to_wkb(geoms).tolist()):
+            rows[id(e)] = (e, a, b)
+
+    def row(self, element: object, shape: BaseGeometry | None) -> tuple[object, float, bytes | None]:
+        """(element, area, WKB) of ``element`` whose plan shape is ``shape``."""
+        got = self.rows.get(id(element))
+        if got is None or got[0] is not element:
+            if shape is None:
+                got = (element, float("nan"), None)
+            else:
+                got = (element, float(shape.area), shape.wkb)
+            self.rows[id(element)] = got
+        return got
+
+    def rows_of(self, elements: Sequence[object], shapes: Sequence[BaseGeometry | None]
+                ) -> list[tuple[object, float, bytes | None]]:
+        """:meth:`row` of each element."""
+        rows = self.rows
+        out = []
+        for e, g in zip(elements, shapes):
+            got = rows.get(id(e))
+            out.append(got if got is not None and got[0] is e else self.row(e, g))
+        return out
+
+    def wkbs(self, elements: Sequence[object], shapes: Sequence[BaseGeometry | None]) -> list[bytes | None]:
+        """The WKB bytes of each element's shape (None for no shape)."""
+        return [r[2] for r in self.rows_of(elements, shapes)]
