@@ -68,11 +68,14 @@ from dataclasses import dataclass
 import networkx as nx
 import numpy as np
 import shapely
+from shapely.errors import GEOSException
 from shapely.geometry import LineString, MultiPolygon, Polygon
 
 from .core_settings import StiffnessSettings
 from .errors import InputError
 from .plan_moments import ShapeTable
+from .plan_ops import (PlanGeometryError, clean, robust_buffer, robust_call, robust_difference, robust_intersection,
+                       robust_union)
 from .sections import WallSegment, combine_section, thin_walled_properties
 from .stick import CoreSummary, SectionProps
 from .takeoff import Storey, Wall
@@ -99,6 +102,7 @@ STOP_MIN_LENGTH_M = 0.3
 is not covered by the system above (m); smaller differences are drawing tolerances."""
 _SIN_PARALLEL = 0.1  # walls within about 5.7 degrees of each other are treated as parallel
 _NODE_SNAP_M = 0.02  # junction points closer than this are one node of the centre-line network
+_MIN_THICKNESS_M = 1e-6  # a thinner "wall" (round-off size, e.g. subnormal coordinates) has no usable thickness
 
 
 @dataclass(frozen=True)
@@ -137,13 +141,19 @@ def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
     x0, y0, x1, y1 = float(x0), float(y0), float(x1), float(y1)
     t = float(w.thickness_m)
     if (math.isfinite(x0) and math.isfinite(y0) and math.isfinite(x1) and math.isfinite(y1)
-            and math.dist((x0, y0), (x1, y1)) > 1e-6 and t > 0 and math.isfinite(t)):
+            and math.dist((x0, y0), (x1, y1)) > 1e-6 and t > _MIN_THICKNESS_M and math.isfinite(t)):
         ends = np.array([[x0, y0], [x1, y1]])
         return ends[0], ends[1], t
     fp = w.footprint
     if fp is None or fp.is_empty or not fp.area > 0:
         return None
-    rect = shapely.minimum_rotated_rectangle(fp)
+    try:
+        with np.errstate(all="ignore"):  # footprints of round-off size: judged by the sizes below
+            rect = shapely.minimum_rotated_rectangle(fp)
+    except GEOSException:
+        return None
+    if not isinstance(rect, Polygon) or rect.is_empty:
+        return None
     c = np.asarray(rect.exterior.coords)[:4]
     e1, e2 = c[1] - c[0], c[2] - c[1]
     if np.hypot(*e1) >= np.hypot(*e2):
@@ -153,7 +163,7 @@ def _wall_line(w: Wall) -> tuple[np.ndarray, np.ndarray, float] | None:
         long_, short = e2, e1
         mid0, mid1 = (c[1] + c[0]) / 2, (c[2] + c[3]) / 2
     t2 = float(np.hypot(*short))
-    if not (np.hypot(*long_) > 1e-6 and t2 > 0):
+    if not (np.hypot(*long_) > 1e-6 and t2 > _MIN_THICKNESS_M):
         return None
     return mid0, mid1, t2
 
@@ -187,15 +197,25 @@ def _line_entry(w: Wall, lines: dict) -> tuple[Wall, tuple[np.ndarray, np.ndarra
 def _footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon | MultiPolygon:
     fp = w.footprint
     if fp is None or fp.is_empty or not fp.area > 0:
-        p0, p1, t = line
-        return LineString([p0, p1]).buffer(t / 2, cap_style="flat", join_style="mitre")
+        return _axis_footprint(w, line)
     if not fp.is_valid:
-        polys = [g for g in shapely.get_parts(shapely.make_valid(fp)) if isinstance(g, Polygon) and g.area > 0]
+        try:
+            with np.errstate(all="ignore"):
+                repaired = shapely.make_valid(fp)
+        except GEOSException:
+            repaired = clean(fp)
+        polys = [g for g in shapely.get_parts(repaired) if isinstance(g, Polygon) and g.area > 0]
         if not polys:
-            p0, p1, t = line
-            return LineString([p0, p1]).buffer(t / 2, cap_style="flat", join_style="mitre")
+            return _axis_footprint(w, line)
         fp = polys[0] if len(polys) == 1 else MultiPolygon(polys)
     return fp
+
+
+def _axis_footprint(w: Wall, line: tuple[np.ndarray, np.ndarray, float]) -> Polygon | MultiPolygon:
+    """The wall's rectangle from its axis and thickness (when its footprint is unusable)."""
+    p0, p1, t = line
+    return robust_buffer(LineString([p0, p1]), t / 2, f"wall {w.global_id}: rectangle from its axis",
+                         cap_style="flat", join_style="mitre")
 
 
 def _as_plan(geom: object) -> PlanShape:
@@ -397,17 +417,29 @@ def _line_tuple(line: tuple[np.ndarray, np.ndarray, float]) -> tuple[float, floa
 
 def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[float, ...]], mode: str
                      ) -> tuple[SectionProps, PlanShape, int, int, int]:
-    """(section, plan, closed cells after cuts, cells in plan, centre-line parts) of a group of walls."""
-    plan = _as_plan(shapely.union_all([_footprint(w, lines[w.global_id]) for w in walls]))
-    uncut = wall_segments(walls)
-    tw = thin_walled_properties(
-        wall_segments(walls, slits=slits) if slits else uncut,
-        torsion_cells=(mode != "open"), free_end_correction=True, snap_tol_m=_NODE_SNAP_M,
-    )
-    n_geo = tw.n_cells  # cells in plan before cuts and override
-    if slits or mode == "open":
-        n_geo = thin_walled_properties(uncut, free_end_correction=True, snap_tol_m=_NODE_SNAP_M).n_cells
-    return combine_section(tw, plan), plan, tw.n_cells, n_geo, tw.n_parts
+    """(section, plan, closed cells after cuts, cells in plan, centre-line parts) of a group of walls.
+
+    Raises:
+        InputError: no centre line is left, or the geometry engine fails on the walls even
+            after the robust retries of :mod:`.plan_ops` (the caller leaves the group out
+            with a warning).
+    """
+    what = "union of walls " + ", ".join(w.global_id for w in walls)
+    plan = _as_plan(robust_union([_footprint(w, lines[w.global_id]) for w in walls], what))
+    try:
+        uncut = wall_segments(walls)
+        tw = thin_walled_properties(
+            wall_segments(walls, slits=slits) if slits else uncut,
+            torsion_cells=(mode != "open"), free_end_correction=True, snap_tol_m=_NODE_SNAP_M,
+        )
+        n_geo = tw.n_cells  # cells in plan before cuts and override
+        if slits or mode == "open":
+            n_geo = thin_walled_properties(uncut, free_end_correction=True, snap_tol_m=_NODE_SNAP_M).n_cells
+        section = combine_section(tw, plan)
+    except GEOSException as exc:
+        raise PlanGeometryError(f"centre lines of walls {', '.join(w.global_id for w in walls)}: the geometry "
+                                f"engine failed ({str(exc).splitlines()[0]})") from None
+    return section, plan, tw.n_cells, n_geo, tw.n_parts
 
 
 def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None = None,
@@ -484,8 +516,14 @@ def _components(prints: Sequence[PlanShape], tol_m: float) -> list[tuple[int, ..
     the touch graph (networkx), as sorted index tuples in networkx's order."""
     graph = nx.Graph()
     graph.add_nodes_from(range(len(prints)))
-    tree = shapely.STRtree(prints)
-    left, right = tree.query(prints, predicate="dwithin", distance=tol_m)
+    try:
+        with np.errstate(all="ignore"):
+            tree = shapely.STRtree(prints)
+            left, right = tree.query(prints, predicate="dwithin", distance=tol_m)
+    except GEOSException:
+        cleaned = [c if c is not None else Polygon() for c in (clean(p) for p in prints)]
+        tree = shapely.STRtree(cleaned)
+        left, right = robust_call("walls touching", (lambda: tree.query(cleaned, predicate="dwithin", distance=tol_m),))
     graph.add_edges_from((int(i), int(j)) for i, j in zip(left, right) if i < j)
     return [tuple(sorted(comp)) for comp in nx.connected_components(graph)]
 
@@ -612,7 +650,10 @@ def _uncovered(w: Wall, plan: PlanShape, tol_m: float) -> tuple[float, float]:
         return 0.0, 0.0
     p0, p1, t = line
     axis = LineString([p0, p1])
-    rest = axis.difference(plan.buffer(max(tol_m, t / 2)))
+    try:
+        rest = robust_difference(axis, robust_buffer(plan, max(tol_m, t / 2)))
+    except PlanGeometryError:
+        return 0.0, float(axis.length)  # cannot tell: not reported as a stop
     return float(rest.length), float(axis.length)
 
 
@@ -701,15 +742,24 @@ def find_systems_by_storey(
             qkey = (tuple(map(id, old_plans)), tuple(map(id, new_plans)))
             hit = query_memo.get(qkey)
             if hit is None:
-                tree = shapely.STRtree(old_plans)
-                hits_new, hits_old = tree.query(new_plans, predicate="intersects")
+                try:
+                    with np.errstate(all="ignore"):
+                        tree = shapely.STRtree(old_plans)
+                        hits_new, hits_old = tree.query(new_plans, predicate="intersects")
+                except GEOSException:  # odd geometry: candidates by bounding box, overlaps decide
+                    tree = shapely.STRtree(old_plans)
+                    hits_new, hits_old = tree.query(new_plans)
                 hit = query_memo[qkey] = (list(zip(hits_new.tolist(), hits_old.tolist())), old_plans, new_plans)
             for n, m in hit[0]:
                 prio, sid, old_plan = pool[m]
                 okey = (id(systems[n].plan), id(old_plan))  # plans are alive until the end: ids are stable
                 ov = overlap_memo.get(okey)
                 if ov is None:
-                    ov = overlap_memo[okey] = systems[n].plan.intersection(old_plan).area
+                    try:
+                        ov = robust_intersection(systems[n].plan, old_plan).area
+                    except PlanGeometryError:
+                        ov = 0.0  # cannot tell: not matched by this pair
+                    overlap_memo[okey] = ov
                 if ov > 1e-9:
                     pairs.append((prio, ov, n, sid))
                     if prio == 1:

@@ -34,13 +34,14 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from shapely.ops import unary_union
+from shapely.geometry import MultiPolygon
 
 from .core_settings import LevelSettings, LoadSettings, MaterialSettings, StiffnessSettings
 from .floors import Floor, FloorLayout, plan_floors
 from .masses import LevelMass, floor_masses, floor_slabs
 from .materials import MaterialBook
-from .plan_moments import ShapeTable
+from .plan_moments import ShapeTable, polygons_of
+from .plan_ops import PlanGeometryError, clean, robust_union
 from .stick import CoreSummary, Level, Segment, StickModel
 from .stiffness import (ColumnInput, RestraintReport, SlabField, cantilever_segment, column_frame,
                         storey_stiffness_centre)
@@ -138,6 +139,7 @@ class _Memo:
         self.materials: dict[int, tuple[Any, Any]] = {}
         self.shapes = shapes if shapes is not None else _shape_table(layout)
         self.rows = self.shapes.rows
+        self.notes: list[str] = []  # geometry problems met, one sentence each (to the warnings)
 
     def _shape(self, element: Any, geom: Any) -> tuple[Any, float, bytes | None]:
         got = self.rows.get(id(element))
@@ -201,7 +203,14 @@ class _Memo:
         key = tuple(sorted(self.wkb(w, w.footprint) for w in walls))
         got = self.unions.get(key)
         if got is None:
-            got = self.unions[key] = unary_union([w.footprint for w in walls])
+            try:
+                got = robust_union([w.footprint for w in walls], "union of the walls " + ", ".join(
+                    w.global_id for w in walls))
+            except PlanGeometryError as err:  # the walls' own (cleaned) outlines, overlapping
+                parts = [p for w in walls for p in polygons_of(clean(w.footprint))]
+                got = MultiPolygon(parts) if parts else None
+                self.notes.append(f"{err}: their outlines are used as they are for the column supports")
+            self.unions[key] = got
         return got
 
 
@@ -244,6 +253,9 @@ def _storey_segments(layout: FloorLayout, j: int, storeys: Sequence[Storey], sys
     if rows:
         signature = tuple((wkb, float(e)) for _, wkb, e in rows)
         walls_union = memo.walls_union([w for s in storeys for w in s.walls if w.footprint is not None])
+        if memo.notes:
+            warnings.extend(f"storey under floor '{f.name}': {n}" for n in memo.notes)
+            memo.notes.clear()
         top = memo.slab_field(layout, j, book)
         bottom = memo.slab_field(layout, j - 1, book) if j > 0 else None
         name = " + ".join(s.name for s in storeys)

@@ -48,13 +48,14 @@ import numpy as np
 import shapely
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
-from shapely.ops import unary_union
 
 from .core_settings import G, LoadSettings
 from .cores import PARTITION_MAX_THICKNESS_M
 from .floors import Floor, FloorLayout, vertical_share_pairs
 from .materials import MaterialBook
-from .plan_moments import MassMoments, ShapeTable, area_moments, area_moments_array, outline_moments, polygons_of
+from .plan_moments import (AreaMoments, MassMoments, ShapeTable, area_moments, area_moments_array, outline_moments,
+                           polygons_of)
+from .plan_ops import PlanGeometryError, clean, robust_buffer, robust_union
 from .takeoff import Slab, Wall
 
 __all__ = ["COMPONENTS", "LevelMass", "floor_masses", "floor_slabs", "plate_of", "opening_footprint", "mass_reference_point"]
@@ -92,18 +93,39 @@ class LevelMass:
 
 
 def plate_of(slabs: Sequence[Slab]) -> Polygon | MultiPolygon | None:
-    """Union of the slabs' footprints as a Polygon or MultiPolygon (None when empty)."""
-    polys = polygons_of(unary_union([sl.footprint for sl in slabs])) if slabs else []
+    """Union of the slabs' footprints as a Polygon or MultiPolygon (None when empty).
+
+    The union is taken by :func:`~swayscreen.pipeline.plan_ops.robust_union`; should the
+    geometry engine fail even on the cleaned footprints, the cleaned footprints themselves
+    (overlaps then count twice)."""
+    return _plate_of(slabs)[0]
+
+
+def _plate_of(slabs: Sequence[Slab]) -> tuple[Polygon | MultiPolygon | None, str | None]:
+    """:func:`plate_of` and a note when the union could not be taken."""
+    note = None
+    if not slabs:
+        return None, None
+    shapes = [sl.footprint for sl in slabs]
+    try:
+        polys = polygons_of(robust_union(shapes, "union of the slabs " + ", ".join(sl.global_id for sl in slabs)))
+    except PlanGeometryError as err:
+        polys = [p for g in shapes for p in polygons_of(clean(g))]
+        note = f"{err}: the slab outlines are used without their union (overlaps count twice)"
     if not polys:
-        return None
-    return polys[0] if len(polys) == 1 else MultiPolygon(polys)
+        return None, note
+    return (polys[0] if len(polys) == 1 else MultiPolygon(polys)), note
 
 
 def _filled(shape: BaseGeometry | None) -> BaseGeometry | None:
     polys = polygons_of(shape)
     if not polys:
         return None
-    return unary_union([Polygon(p.exterior) for p in polys])
+    shells = [Polygon(p.exterior) for p in polys]
+    try:
+        return robust_union(shells, "outline of the floor plate")
+    except PlanGeometryError:
+        return MultiPolygon(shells)
 
 
 def _opening_corners(wall: Wall, start_m: float, end_m: float) -> list[tuple[float, float]] | None:
@@ -162,6 +184,21 @@ class _Shares:
         return got
 
 
+def _sound_moments(shape: BaseGeometry, ref: tuple[float, float]) -> AreaMoments | None:
+    """``area_moments(shape, ref)``; for a degenerate ring (a zero-width spike or round-off-size
+    coordinates can make the geometry engine misjudge its orientation, giving a negative area
+    integral) the moments of the shape cleaned by :func:`~swayscreen.pipeline.plan_ops.clean`;
+    None when no positive area integral is found."""
+    mom = area_moments(shape, ref)
+    if mom.a > 0.0 or not mom.a <= 0.0:  # positive, or NaN (left to propagate as before)
+        return mom
+    fixed = clean(shape)
+    if fixed is None:
+        return None
+    mom = area_moments(fixed, ref)
+    return mom if mom.a > 0.0 else None
+
+
 def _geometries(shapes: Sequence[BaseGeometry | None]) -> np.ndarray:
     arr = np.empty(len(shapes), dtype=object)
     arr[:] = shapes
@@ -183,18 +220,25 @@ def _moments_table(shapes: Sequence[BaseGeometry], ref: tuple[float, float],
             first[b] = g
     index = {b: k for k, b in enumerate(first)}
     inverse = np.array([index[b] for b in wkbs], dtype=np.intp)
-    return area_moments_array(list(first.values()), ref)[inverse]
+    unique = list(first.values())
+    table = area_moments_array(unique, ref)
+    for k in np.flatnonzero(table[:, 0] <= 0.0).tolist():  # degenerate rings only (see _sound_moments)
+        mom = _sound_moments(unique[k], ref)
+        if mom is not None:
+            table[k] = (mom.a, mom.sx, mom.sy, mom.ixx, mom.iyy, mom.ixy)
+    return table[inverse]
 
 
 def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.ndarray, z0: list[float],
-            z1: list[float], shares: _Shares) -> list[MassMoments]:
+            z1: list[float], shares: _Shares, dropped: set[int]) -> list[MassMoments]:
     """Item ``k`` (mass ``mass_kg[k]`` spread over the plan region of moments ``table[k]``, over
     the height z0[k]..z1[k]) lumped onto ``n`` floors by :func:`vertical_shares`.
 
     The same numbers, term by term and in the same order, as calling
     :meth:`~swayscreen.pipeline.plan_moments.MassMoments.add_moments` item by item and share
     by share (``np.bincount`` accumulates in index order; zero masses are skipped as
-    ``add_moments`` does)."""
+    ``add_moments`` does). Items whose region has no positive area integral (where
+    ``add_moments`` would refuse the mass) are left out and their indices added to ``dropped``."""
     out = [MassMoments(ref) for _ in range(n)]
     if not len(mass_kg):
         return out
@@ -220,9 +264,13 @@ def _lumped(n: int, ref: tuple[float, float], table: np.ndarray, mass_kg: np.nda
     floor = np.array(floors, dtype=np.intp)[entry]
     mass = mass_kg[item] * np.array(fracs, dtype=float)[entry]
     keep = mass != 0.0
+    # a region whose area integral about ``ref`` is not positive although its area is (a sliver
+    # of round-off size far from ``ref``) cannot carry a spread mass: left out and counted
+    flat = keep & (table[item, 0] <= 0.0)
+    if flat.any():
+        dropped.update(np.unique(item[flat]).tolist())
+        keep &= ~flat
     mass, floor, mom = mass[keep], floor[keep], table[item[keep]]
-    if np.any(mom[:, 0] <= 0.0):
-        raise ValueError("cannot spread a mass over a region of zero size")
     f = mass / mom[:, 0]
     sums = [np.bincount(floor, weights=w, minlength=n).tolist()
             for w in (mass, f * mom[:, 1], f * mom[:, 2], f * (mom[:, 3] + mom[:, 4]))]
@@ -291,6 +339,7 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             z1.append(base + head)
             hole_z.append((sill, head))
     walls = [MassMoments(ref) for _ in range(n)]
+    n_flat_walls = n_flat_holes = 0
     if item_mass:
         masses = np.array(item_mass, dtype=float)
         moments = np.zeros((len(item_mass), 6))
@@ -305,8 +354,12 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
             unique = shapely.polygons(np.array(list(keys), dtype=float))
             sill_head = np.array(hole_z, dtype=float)
             masses[idx] = -(shapely.area(unique)[inverse] * (sill_head[:, 1] - sill_head[:, 0]) * masses[idx])
-            moments[idx] = area_moments_array(list(unique), ref)[inverse]
-        walls = _lumped(n, ref, moments, masses, z0, z1, shares)
+            moments[idx] = _moments_table(list(unique), ref)[inverse]
+        flat: set[int] = set()
+        walls = _lumped(n, ref, moments, masses, z0, z1, shares, flat)
+        hole_items = set(hole_of)
+        n_flat_walls = sum(1 for k in flat if k not in hole_items)
+        n_flat_holes = len(flat) - n_flat_walls
     secs = _geometries([c.section for c in layout.columns])
     empty = shapely.is_empty(secs).tolist()
     col_rows = table.rows_of(layout.columns, secs)
@@ -321,15 +374,26 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
     item_mass = [r[1] * c.height_m * m.density_kg_m3 for c, m, r in kept]
     z0 = [c.base_elevation_m for c, _, _ in kept]
     z1 = [c.top_elevation_m for c, _, _ in kept]
-    cols = _lumped(n, ref, _moments_table(kept_cols, ref, col_wkbs), np.array(item_mass, dtype=float), z0, z1, shares)
+    flat_cols: set[int] = set()
+    cols = _lumped(n, ref, _moments_table(kept_cols, ref, col_wkbs), np.array(item_mass, dtype=float), z0, z1, shares,
+                   flat_cols)
+    flat_loose = 0
     for sl in layout.loose_slabs:
         mat = book.get(sl.material, "slabs")
         if sl.footprint.is_empty or sl.area_m2 <= 0:
             continue
         m = sl.area_m2 * sl.thickness_m * mat.density_kg_m3
         z = sl.top_elevation_m - sl.thickness_m / 2
+        mom = _sound_moments(sl.footprint, ref)
+        if mom is None:
+            flat_loose += 1
+            continue
         for i, f in shares(z - 1e-3, z + 1e-3):
-            loose[i].add_area(m * f, sl.footprint)
+            loose[i].add_moments(m * f, mom)
+    if n_flat_walls or flat_cols or n_flat_holes or flat_loose:
+        counts = [(n_flat_walls, "wall"), (len(flat_cols), "column"), (n_flat_holes, "opening"), (flat_loose, "slab")]
+        warnings.append(", ".join(f"{k} {what}(s)" for k, what in counts if k)
+                        + " with a plan area of round-off size (no positive area integral) carry no mass")
     if partitions:
         warnings.append(f"{len(partitions)} non-load-bearing or partition wall(s) ({sum(partitions):,.0f} m^3) "
                         "left to the partition and facade allowances, not counted as wall mass")
@@ -374,7 +438,10 @@ def _hull_of(floor: Floor) -> BaseGeometry | None:
         shapes = [w.footprint for s in group for w in s.walls] + [c.section for s in group for c in s.columns]
         shapes = [s for s in shapes if s is not None and not s.is_empty]
         if shapes:
-            hull = unary_union(shapes).convex_hull
+            try:
+                hull = robust_union(shapes, "walls and columns of a storey").convex_hull
+            except PlanGeometryError:
+                hull = shapely.convex_hull(shapely.GeometryCollection([c for c in map(clean, shapes) if c is not None]))
             if hull.area > 0:
                 return hull
     return None
@@ -399,6 +466,7 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings, *
 
     out: list[LevelMass] = []
     borrowed: list[str] = []
+    no_area: set[str] = set()
     plates: dict[tuple[bytes, ...], _Plate] = {}  # floors with the same slabs in plan share the geometry
     sources = _slab_sources(floors)
     own = [sl.footprint for f in floors for sl in f.slabs]
@@ -413,11 +481,16 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings, *
         geo = plates.get(key)
         if geo is None:
             geo = plates[key] = _Plate(slabs, ref)
+            if geo.note:
+                warnings.append(f"floor '{f.name}': {geo.note}")
         plate = geo.plate
         comp: dict[str, MassMoments] = {k: MassMoments(ref) for k in COMPONENTS}
         for sl, mom in zip(slabs, geo.slab_moments):
             mat = book.get(sl.material, "slabs")
             if sl.area_m2 > 0:
+                if mom is None:
+                    no_area.add(sl.global_id)
+                    continue
                 comp["slabs"].add_moments(sl.area_m2 * sl.thickness_m * mat.density_kg_m3, mom)
         comp["slabs"].merge([loose[i]])
         area = geo.area
@@ -439,6 +512,9 @@ def floor_masses(layout: FloorLayout, book: MaterialBook, loads: LoadSettings, *
         comp["walls"].merge([walls[i]])
         comp["columns"].merge([cols[i]])
         out.append(_finish(comp, plate, estimated, geo.gross_area_m2, geo.area))
+    if no_area:
+        warnings.append(f"{len(no_area)} slab(s) with a plan area of round-off size carry no mass: "
+                        + ", ".join(sorted(no_area)))
     if borrowed:
         warnings.append("no slab found at floor(s) " + ", ".join(borrowed)
                         + ": the plate and slabs of the named floor assumed")
@@ -451,15 +527,21 @@ class _Plate:
     area, and the moments of each slab (all about ``ref``)."""
 
     def __init__(self, slabs: Sequence[Slab], ref: tuple[float, float]) -> None:
-        self.plate = plate_of(slabs)
+        self.plate, self.note = _plate_of(slabs)
         self.area = float(self.plate.area) if self.plate is not None else 0.0
-        self.slab_moments = [area_moments(sl.footprint, ref) for sl in slabs]
+        self.slab_moments = [_sound_moments(sl.footprint, ref) for sl in slabs]
         plate = self.plate
-        self.moments = area_moments(plate, ref) if plate is not None else None
+        self.moments = _sound_moments(plate, ref) if plate is not None else None
+        if self.moments is None:
+            self.area = 0.0  # nothing (or only round-off) to spread the plate loads over
         self.perimeter = 0.0
         self.outline_moments = None
-        if plate is not None and plate.area > 0:
-            closed = plate.buffer(_CLOSE_GAPS_M, join_style="mitre").buffer(-_CLOSE_GAPS_M, join_style="mitre")
+        if plate is not None and self.area > 0:
+            try:
+                closed = robust_buffer(robust_buffer(plate, _CLOSE_GAPS_M, join_style="mitre"), -_CLOSE_GAPS_M,
+                                       join_style="mitre")
+            except PlanGeometryError:
+                closed = plate
             outline = closed if not closed.is_empty else plate
             self.perimeter = sum(p.exterior.length for p in polygons_of(outline))
             self.outline_moments = outline_moments(outline, ref)

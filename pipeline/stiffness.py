@@ -62,12 +62,13 @@ from typing import Protocol
 
 import numpy as np
 import shapely
-from shapely.geometry import Point
+from shapely.errors import GEOSException
+from shapely.geometry import LineString, Point
 from shapely.geometry.base import BaseGeometry
-from shapely.ops import unary_union
 
 from .core_settings import StiffnessSettings
 from .plan_moments import AreaMoments, area_moments, area_moments_array
+from .plan_ops import PlanGeometryError, clean, robust_intersection, robust_union
 from .stick import SectionProps, Segment
 
 __all__ = [
@@ -168,7 +169,12 @@ class SlabField:
             self.mean_e = sum(p[0].area * p[2] for p in self.pieces) / area
         else:
             self.mean_t = self.mean_e = 0.0
-        self.area_m2 = float(unary_union([p[0] for p in self.pieces]).area) if self.pieces else 0.0
+        self.area_m2 = 0.0
+        if self.pieces:
+            try:
+                self.area_m2 = float(robust_union([p[0] for p in self.pieces], "union of a floor's slabs").area)
+            except PlanGeometryError:
+                self.area_m2 = float(area)  # overlaps counted twice; only sets a typical span
         self._at: dict[tuple[float, float], tuple[float, float]] = {}  # at() by point (same answer each time)
 
     def __bool__(self) -> bool:
@@ -187,7 +193,8 @@ class SlabField:
         pt = Point(x, y)
         best = None
         for shp, t, e in self.pieces:
-            d = shp.distance(pt)
+            with np.errstate(all="ignore"):
+                d = shp.distance(pt)
             if d <= 1.0 and (best is None or d < best[0]):
                 best = (d, t, e)
         if best is not None:
@@ -253,8 +260,12 @@ def _wall_distances(pts: np.ndarray, walls: BaseGeometry | None) -> np.ndarray:
     starts = np.repeat(pts, 4, axis=0)
     ends = starts + np.tile(dirs, (n, 1)) * MAX_SLAB_SPAN_M
     rays = shapely.linestrings(np.stack([starts, ends], axis=1))
-    hits = shapely.intersection(rays, walls)
-    with np.errstate(invalid="ignore"):
+    try:
+        with np.errstate(all="ignore"):
+            hits = shapely.intersection(rays, walls)
+    except GEOSException:
+        hits = _ray_hits(rays, walls)
+    with np.errstate(all="ignore"):
         d = shapely.distance(shapely.points(starts), hits)
     d = np.where(shapely.is_empty(hits) | ~(d > 1e-6), np.nan, d)
     return d.reshape(n, 4)
@@ -273,6 +284,36 @@ def _supports(pts: np.ndarray, i: int, wall_d: np.ndarray, axis: int) -> tuple[f
         cands = [v for v in (col, wall) if v is not None]
         out.append(min(cands) if cands else None)
     return out[0], out[1]
+
+
+def _inside(walls: BaseGeometry, xy: np.ndarray) -> np.ndarray:
+    """Which points lie inside ``walls`` (``shapely.contains_xy``; on the cleaned walls when the
+    geometry engine fails on them, and none when it fails again)."""
+    try:
+        with np.errstate(all="ignore"):
+            return shapely.contains_xy(walls, xy[:, 0], xy[:, 1])
+    except GEOSException:
+        cleaned = clean(walls)
+        if cleaned is None:
+            return np.zeros(len(xy), bool)
+        try:
+            with np.errstate(all="ignore"):
+                return shapely.contains_xy(cleaned, xy[:, 0], xy[:, 1])
+        except GEOSException:
+            return np.zeros(len(xy), bool)
+
+
+def _ray_hits(rays: np.ndarray, walls: BaseGeometry) -> np.ndarray:
+    """``shapely.intersection(rays, walls)`` after the geometry engine failed on it: on the cleaned
+    walls (:mod:`.plan_ops`), ray by ray; a ray it still cannot intersect meets no wall."""
+    cleaned = clean(walls)
+    out = np.empty(len(rays), dtype=object)
+    for k, ray in enumerate(rays):
+        try:
+            out[k] = robust_intersection(ray, cleaned) if cleaned is not None else LineString()
+        except PlanGeometryError:
+            out[k] = LineString()
+    return out
 
 
 def _all_supports(pts: np.ndarray, wall_d: np.ndarray) -> list[list[tuple[float | None, float | None]]]:
@@ -420,10 +461,12 @@ def _column_work(columns: Sequence[ColumnInput] | Callable[[], Sequence[ColumnIn
             core = _column_values(geo, length_m, top, fixed_base, stiffness)
             got = by_height[float(length_m)] = [core, _restraint_stats(core), None]
         core, stats = got[0], got[1]
-    kept, n_inside, no_slab, _, values = core
+    kept, n_inside, no_slab, _, values, n_flat = core
     notes: list[str] = []
     if n_inside:
         notes.append(f"{storey}: {n_inside} column(s) inside walls count as part of the wall")
+    if n_flat:
+        notes.append(f"{storey}: {n_flat} column(s) with a section of round-off size (no bending stiffness) left out")
     if not kept:
         return (), (), (), notes, got
     if no_slab:
@@ -433,7 +476,7 @@ def _column_work(columns: Sequence[ColumnInput] | Callable[[], Sequence[ColumnIn
 
 def _restraint_stats(core: tuple) -> tuple:
     """(method, a_x mean, min, max, a_y mean, min, max) over the kept columns of ``core`` (() when none)."""
-    kept, _, _, method, values = core
+    kept, _, _, method, values, _ = core
     if not kept:
         return ()
     ax = [v[3] for v in values]
@@ -459,16 +502,18 @@ def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bott
     """The plan work of :func:`column_springs` (independent of the storey height): (indices of
     the columns kept, number inside walls, no-slab assumption made, method, have_slab, per kept
     column (x, y, E, I_xx, I_yy, slab thickness at the top or None, per axis the slab strip
-    stiffness at the top and at the bottom or None))."""
+    stiffness at the top and at the bottom or None), number left out because their section
+    has no positive area integral or second moment (round-off size))."""
     cols = list(columns)
     index = list(range(len(cols)))
     n_inside = 0
     sections = np.empty(len(cols), dtype=object)
     sections[:] = [c.section for c in cols]
-    centroids = shapely.centroid(sections)
-    cxy = np.column_stack([shapely.get_x(centroids), shapely.get_y(centroids)]).reshape(-1, 2)
+    with np.errstate(all="ignore"):  # sections of round-off size are sorted out below
+        centroids = shapely.centroid(sections)
+        cxy = np.column_stack([shapely.get_x(centroids), shapely.get_y(centroids)]).reshape(-1, 2)
     if walls is not None and not walls.is_empty:
-        mask = shapely.contains_xy(walls, cxy[:, 0], cxy[:, 1]) if len(cols) else np.zeros(0, bool)
+        mask = _inside(walls, cxy) if len(cols) else np.zeros(0, bool)
         if mask.any():
             n_inside = int(mask.sum())
             keep = ~mask
@@ -476,10 +521,22 @@ def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bott
             cols = [c for c, k in zip(cols, keep.tolist()) if k]
             sections, cxy = sections[keep], cxy[keep]
     if not cols:
-        return (), n_inside, False, "", False, ()
+        return (), n_inside, False, "", False, (), 0
     pts = np.array(cxy, dtype=float)
     # second moments of each section about its own centroid (column_second_moments, vectorised)
-    inertias = [AreaMoments(*row).central() for row in area_moments_array(list(sections), refs=pts).tolist()]
+    with np.errstate(all="ignore"):
+        moments = area_moments_array(list(sections), refs=pts).tolist()
+    inertias = [AreaMoments(*row).central() if row[0] > 0 else (0.0, 0.0, 0.0) for row in moments]
+    # a section of round-off size (no positive area integral or second moment) has no stiffness
+    sound = [ixx > 0 and iyy > 0 for ixx, iyy, _ in inertias]
+    n_flat = sound.count(False)
+    if n_flat:
+        index = [i for i, k in zip(index, sound) if k]
+        cols = [c for c, k in zip(cols, sound) if k]
+        inertias = [m for m, k in zip(inertias, sound) if k]
+        pts = pts[np.array(sound, dtype=bool)]
+        if not cols:
+            return (), n_inside, False, "", False, (), n_flat
 
     set_a = stiffness.column_restraint_factor
     have_slab = bool(top) or (bool(bottom) and not fixed_base)
@@ -519,15 +576,15 @@ def _column_geometry(columns: Sequence[ColumnInput], top: SlabField | None, bott
             k_bottom = None if fixed_base else _strips(bottom, x, y, spans[i][axis], across, stiffness)
             strips.append((k_top, k_bottom))
         rows.append((x, y, c.e_pa, ixx, iyy, t_top, tuple(strips)))
-    return tuple(index), n_inside, no_slab, method, have_slab, tuple(rows)
+    return tuple(index), n_inside, no_slab, method, have_slab, tuple(rows), n_flat
 
 
 def _column_values(geo: tuple, length_m: float, top: SlabField | None, fixed_base: bool,
-                   stiffness: StiffnessSettings) -> tuple[tuple[int, ...], int, bool, str, tuple[tuple, ...]]:
+                   stiffness: StiffnessSettings) -> tuple[tuple[int, ...], int, bool, str, tuple[tuple, ...], int]:
     """The springs of :func:`column_springs` for one storey height from :func:`_column_geometry`:
     (indices kept, number inside walls, no-slab assumption made, method, per kept column
-    (centre, k_x, k_y, a_x, a_y, h))."""
-    index, n_inside, no_slab, method, have_slab, rows = geo
+    (centre, k_x, k_y, a_x, a_y, h), number left out with a section of round-off size)."""
+    index, n_inside, no_slab, method, have_slab, rows, n_flat = geo
     f_c = stiffness.column_flexure_factor
     set_a = stiffness.column_restraint_factor
     values: list[tuple] = []
@@ -554,7 +611,7 @@ def _column_values(geo: tuple, length_m: float, top: SlabField | None, fixed_bas
         k_x = a_dir[0] * 12.0 * e_pa * f_c * iyy / h ** 3
         k_y = a_dir[1] * 12.0 * e_pa * f_c * ixx / h ** 3
         values.append(((x, y), k_x, k_y, a_dir[0], a_dir[1], h))
-    return index, n_inside, no_slab, method, tuple(values)
+    return index, n_inside, no_slab, method, tuple(values), n_flat
 
 
 def frame_segment(springs: Sequence[ColumnSpring], level_index: int, length_m: float,
