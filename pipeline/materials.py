@@ -234,18 +234,33 @@ class MaterialBook:
         self._cache: dict[Material | None, ResolvedMaterial] = {}
         self._usage: dict[tuple[str, str], int] = {}
         self._order: list[tuple[str, str]] = []
+        # by object identity (entries hold the objects, so ids stay unique): a model's elements
+        # share a few material objects, and hashing one or formatting its description per
+        # element cost more than the rest of the per-element work of a derive
+        self._by_id: dict[int, tuple[Material | None, ResolvedMaterial]] = {}
+        self._described: dict[int, tuple[ResolvedMaterial, str]] = {}
 
     def get(self, material: Material | None, role: str | None = None) -> ResolvedMaterial:
         """The resolved material; counts one use under ``role`` ("walls", "columns", "slabs") if given."""
-        try:
-            res = self._cache[material]
-        except KeyError:
-            res = resolve_material(material, self.settings)
-            self._cache[material] = res
-        except TypeError:  # unhashable property values: resolve without caching
-            res = resolve_material(material, self.settings)
+        seen = self._by_id.get(id(material))
+        if seen is not None and seen[0] is material:
+            res = seen[1]
+        else:
+            try:
+                res = self._cache[material]
+            except KeyError:
+                res = resolve_material(material, self.settings)
+                self._cache[material] = res
+                self._by_id[id(material)] = (material, res)
+            except TypeError:  # unhashable property values: resolve without caching
+                res = resolve_material(material, self.settings)
+            else:
+                self._by_id[id(material)] = (material, res)
         if role is not None:
-            key = (role, res.describe())
+            told = self._described.get(id(res))
+            if told is None or told[0] is not res:
+                told = self._described[id(res)] = (res, res.describe())
+            key = (role, told[1])
             if key not in self._usage:
                 self._usage[key] = 0
                 self._order.append(key)
