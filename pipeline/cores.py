@@ -232,9 +232,11 @@ def _partition_note(count: int, limit_m: float) -> str:
 
 
 def _lateral(
-    walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float, lines: dict | None = None
+    walls: Sequence[Wall], load_bearing_only: bool, partition_max_thickness_m: float, lines: dict | None = None,
+    kept_lines: list | None = None,
 ) -> tuple[list[Wall], list[str], int, int]:
-    """Kept walls, warnings, number of partitions, number flagged not load-bearing."""
+    """Kept walls, warnings, number of partitions, number flagged not load-bearing (and, into
+    ``kept_lines`` when given, the kept walls' centre lines)."""
     kept: list[Wall] = []
     seen: set[str] = set()
     warnings: list[str] = []
@@ -256,6 +258,8 @@ def _lateral(
             n_partition += 1
             continue
         kept.append(w)
+        if kept_lines is not None:
+            kept_lines.append(line)
     return kept, warnings, n_partition, n_flagged
 
 
@@ -443,8 +447,8 @@ def _system_geometry(walls: list[Wall], lines: dict, slits: dict[str, tuple[floa
 
 
 def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None = None,
-            line_cache: dict | None = None, wkbs: dict[int, bytes] | None = None
-            ) -> tuple[str, SectionProps, bool, PlanShape, str]:
+            line_cache: dict | None = None, wkbs: dict[int, bytes] | None = None,
+            wall_lines: Sequence | None = None) -> tuple[str, SectionProps, bool, PlanShape, str]:
     """Kind, section, closed flag, plan and note of one connected group of walls.
 
     ``memo``: a dict shared between calls (e.g. over the storeys of one building): groups of
@@ -457,7 +461,9 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
         InputError: the walls leave no centre line (all shorter than the node snapping).
     """
     kind = "core" if len(walls) > 1 else "wall"
-    lines = {w.global_id: _line_of(w, line_cache) for w in walls}
+    if wall_lines is None:
+        wall_lines = [_line_of(w, line_cache) for w in walls]
+    lines = {w.global_id: line for w, line in zip(walls, wall_lines)}
     mode = stiffness.core_cells
     slits: dict[str, tuple[float, ...]] = {}
     cut_notes: list[str] = []
@@ -479,8 +485,8 @@ def _system(walls: list[Wall], stiffness: StiffnessSettings, memo: dict | None =
             sigs = [(*_line_entry(w, line_cache)[2], wkb, tuple(float(c) for c in slits.get(w.global_id, ())))
                     for w, wkb in zip(walls, group_wkbs)]
         else:
-            sigs = [_wall_signature(w, lines[w.global_id], slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
-                    for w, wkb in zip(walls, group_wkbs)]
+            sigs = [_wall_signature(w, line, slits.get(w.global_id, ()), wkb)  # type: ignore[arg-type]
+                    for w, line, wkb in zip(walls, wall_lines, group_wkbs)]
         key = (mode, tuple(sorted(sigs)))
         geo = memo.get(key)
         if geo is None:
@@ -539,10 +545,12 @@ def _find_systems(
     lines: dict | None = None,
     shapes: ShapeTable | None = None,
 ) -> tuple[list[SystemSection], list[str], tuple[int, int]]:
-    kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m, lines)
+    kept_lines: list = []
+    kept, warnings, n_partition, n_flagged = _lateral(walls, load_bearing_only, partition_max_thickness_m, lines,
+                                                      kept_lines)
     if not kept:
         return [], warnings, (n_partition, n_flagged)
-    prints = [_footprint(w, _line_of(w, lines)) for w in kept]  # type: ignore[arg-type]
+    prints = [_footprint(w, line) for w, line in zip(kept, kept_lines)]
     wkbs = None
     if memo is not None:
         # storeys with the same footprints (in the same order) have the same wall graph
@@ -560,9 +568,11 @@ def _find_systems(
         comps = _components(prints, tol_m)
     found = []
     for comp in comps:
-        group = sorted((kept[k] for k in comp), key=lambda w: w.global_id)
+        order_ = sorted(comp, key=lambda k: kept[k].global_id)
+        group = [kept[k] for k in order_]
         try:
-            kind, section, closed, plan, note = _system(group, stiffness, memo, lines, wkbs)
+            kind, section, closed, plan, note = _system(group, stiffness, memo, lines, wkbs,
+                                                        [kept_lines[k] for k in order_])
         except InputError as err:
             warnings.append(f"walls {', '.join(w.global_id for w in group)} give no section ({err}): left out")
             continue

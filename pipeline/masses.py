@@ -313,7 +313,9 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
         kept_walls.append((w, mat, areas[k], wall_rows[k][2]))
     # items in lumping order: each wall, then its opening holes (negative mass)
     prints: list[BaseGeometry] = []
-    holes: list[list[tuple[float, float]]] = []
+    rects: dict[tuple, int | None] = {}  # (axis, thickness, start, end) -> index of the distinct rectangle
+    corners_of: list[list[tuple[float, float]]] = []  # the distinct rectangles
+    holes: list[int] = []  # rectangle of each hole
     hole_of: list[int] = []  # item index of each hole
     hole_z: list[tuple[float, float, float]] = []  # (wall base, sill, head)
     item_mass: list[float] = []  # walls: mass; holes: density (mass set from the hole's area below)
@@ -328,11 +330,19 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
         for op in w.openings:
             if not (isfinite(op.start_m) and isfinite(op.end_m) and isfinite(op.sill_m) and isfinite(op.head_m)):
                 continue
-            corners = _opening_corners(w, op.start_m, op.end_m)
+            # opening holes repeat over the storeys: one rectangle per distinct wall axis and opening
+            rkey = (w.axis_m, w.thickness_m, op.start_m, op.end_m)
+            if rkey in rects:
+                rect = rects[rkey]
+            else:
+                corners = _opening_corners(w, op.start_m, op.end_m)
+                rect = rects[rkey] = None if corners is None else len(corners_of)
+                if corners is not None:
+                    corners_of.append(corners)
             sill, head = max(0.0, op.sill_m), min(h, op.head_m)
-            if corners is None or head <= sill:
+            if rect is None or head <= sill:
                 continue
-            holes.append(corners)
+            holes.append(rect)
             hole_of.append(len(item_mass))
             item_mass.append(rho)
             z0.append(base + sill)
@@ -348,10 +358,8 @@ def _vertical(layout: FloorLayout, book: MaterialBook, ref: tuple[float, float],
         is_wall[idx] = False
         moments[is_wall] = _moments_table(prints, ref, [r[3] for r in kept_walls])
         if holes:
-            # opening holes repeat over the storeys: one polygon per distinct rectangle
-            keys: dict[tuple, int] = {}
-            inverse = np.array([keys.setdefault(tuple(c), len(keys)) for c in holes], dtype=np.intp)
-            unique = shapely.polygons(np.array(list(keys), dtype=float))
+            inverse = np.array(holes, dtype=np.intp)
+            unique = shapely.polygons(np.array(corners_of, dtype=float))
             sill_head = np.array(hole_z, dtype=float)
             masses[idx] = -(shapely.area(unique)[inverse] * (sill_head[:, 1] - sill_head[:, 0]) * masses[idx])
             moments[idx] = _moments_table(list(unique), ref)[inverse]
