@@ -163,10 +163,6 @@ def mass_reference_point(layout: FloorLayout) -> tuple[float, float]:
     return ((minx + maxx) / 2, (miny + maxy) / 2)
 
 
-def _finite(*values: float) -> bool:
-    return all(math.isfinite(v) for v in values)
-
-
 class _Shares:
     """:func:`~swayscreen.pipeline.floors.vertical_shares` as (floor, fraction) pairs of the
     non-zero fractions, memoised by (z0, z1): elements of one storey share their elevations,
