@@ -7,6 +7,7 @@ flagged, else 0.
 """
 from __future__ import annotations
 
+import gc
 import os
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import asdict, dataclass
@@ -41,7 +42,7 @@ def screen_one(model: str, settings_path: str | None, out_dir: str) -> BatchItem
     try:
         # the reader's parse is reused by the write-back and released by it; only plain data
         # (BatchItem) leaves this process
-        run = screen_file(model, settings_path, keep_source=True)
+        run = screen_file(model, settings_path, keep_source=True, freeze_gc=True)
         folder = Path(out_dir) / Path(model).stem
         write_outputs(run, folder)
         summary = build_summary(run)
@@ -49,6 +50,8 @@ def screen_one(model: str, settings_path: str | None, out_dir: str) -> BatchItem
         return BatchItem(model, "error", error=str(exc))
     except Exception as exc:  # an unattended batch must carry on with the other models
         return BatchItem(model, "error", error=f"internal error: {type(exc).__name__}: {exc}")
+    finally:
+        gc.unfreeze()  # the worker moves on to the next model: let this one's objects go
     gov = summary.get("governing") or {}
     modes = summary.get("modes") or []
     ratio = None

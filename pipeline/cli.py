@@ -16,6 +16,7 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_var, "1")
 
 import argparse  # noqa: E402
+import gc  # noqa: E402
 import sys  # noqa: E402
 from pathlib import Path
 
@@ -85,7 +86,10 @@ def main(argv: list[str] | None = None) -> int:
         from . import commands
 
         handler = getattr(commands, f"cmd_{args.command}")
-        return int(handler(args))
+        try:
+            return int(handler(args))
+        finally:
+            gc.unfreeze()  # screen and demo freeze the takeoff after reading; callers in-process get it back
     except (InputError, PluginError) as exc:
         print(f"swayscreen: error: {exc}", file=sys.stderr)
         return EXIT_INPUT

@@ -88,7 +88,7 @@ def cmd_screen(args) -> int:
     if no_report and not args.out:
         raise InputError("--no-report applies to the files written with --out DIR; give --out as well")
     # With --out the reader's parse is kept for the write-back (released once it is written).
-    run = screen_file(args.model, args.settings, keep_source=bool(args.out))
+    run = screen_file(args.model, args.settings, keep_source=bool(args.out), freeze_gc=True)
     out_paths = None
     if args.out:
         from .outputs import write_outputs
@@ -128,7 +128,7 @@ def cmd_demo(args) -> int:
     print(f"Demo: screening the bundled sample model {model.name} (an invented 60-storey residential tower)")
     print(f"with the example settings {settings.name} (an invented windy waterfront site).")
     print()
-    run = screen_file(model, settings, keep_source=True)
+    run = screen_file(model, settings, keep_source=True, freeze_gc=True)
     out = Path(args.out).resolve()
     paths = write_outputs(run, out)
     print(screening_text(run))

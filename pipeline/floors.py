@@ -116,25 +116,9 @@ def vertical_shares(nodes: tuple[float, ...] | list[float], z0: float, z1: float
     ``nodes[0]`` (the base) is dropped; the part above the top floor goes to the top floor.
     Returns one fraction per floor (sum <= 1).
     """
-    n = len(nodes) - 1
-    out = [0.0] * n
-    length = z1 - z0
-    if n <= 0 or length <= 0.0:
-        return out
-    first = max(bisect.bisect_right(nodes, z0) - 1, 0)
-    last = min(bisect.bisect_left(nodes, z1), n)
-    for k in range(first, last):
-        lo, hi = nodes[k], nodes[k + 1]
-        c, d = max(z0, lo), min(z1, hi)
-        if d <= c:
-            continue
-        part = (d - c) / length
-        upper = part * ((c + d) / 2 - lo) / (hi - lo)
-        out[k] += upper
-        if k > 0:
-            out[k - 1] += part - upper
-    if z1 > nodes[-1]:
-        out[-1] += (z1 - max(z0, nodes[-1])) / length
+    out = [0.0] * max(len(nodes) - 1, 0)
+    for k, f in vertical_share_pairs(nodes, z0, z1):
+        out[k] = f
     return out
 
 

@@ -114,26 +114,26 @@ def _cleaned_pair(a: BaseGeometry, b: BaseGeometry) -> tuple[BaseGeometry, BaseG
     return (ca if ca is not None else empty), (cb if cb is not None else empty)
 
 
-def robust_intersection(a: BaseGeometry, b: BaseGeometry, what: str = "intersection of plan shapes") -> BaseGeometry:
-    """``a.intersection(b)``, retried on cleaned shapes when GEOS fails (module doc)."""
+def _robust_binary(op: str, a: BaseGeometry, b: BaseGeometry, what: str) -> BaseGeometry:
+    """``shapely.<op>(a, b)``, retried on cleaned shapes when GEOS fails (module doc)."""
+    fn = getattr(shapely, op)
     try:
         with np.errstate(all="ignore"):
-            return a.intersection(b)
+            return fn(a, b)
     except GEOSException:
         pass
     ca, cb = _cleaned_pair(a, b)
-    return robust_call(what, (lambda: ca.intersection(cb), lambda: shapely.intersection(ca, cb, grid_size=GRID_M)))
+    return robust_call(what, (lambda: fn(ca, cb), lambda: fn(ca, cb, grid_size=GRID_M)))
+
+
+def robust_intersection(a: BaseGeometry, b: BaseGeometry, what: str = "intersection of plan shapes") -> BaseGeometry:
+    """``a.intersection(b)``, retried on cleaned shapes when GEOS fails (module doc)."""
+    return _robust_binary("intersection", a, b, what)
 
 
 def robust_difference(a: BaseGeometry, b: BaseGeometry, what: str = "difference of plan shapes") -> BaseGeometry:
     """``a.difference(b)``, retried on cleaned shapes when GEOS fails (module doc)."""
-    try:
-        with np.errstate(all="ignore"):
-            return a.difference(b)
-    except GEOSException:
-        pass
-    ca, cb = _cleaned_pair(a, b)
-    return robust_call(what, (lambda: ca.difference(cb), lambda: shapely.difference(ca, cb, grid_size=GRID_M)))
+    return _robust_binary("difference", a, b, what)
 
 
 def robust_buffer(geom: BaseGeometry, distance: float, what: str = "offset of a plan shape",
