@@ -111,12 +111,10 @@ class MaterialReader:
         self.scale = scale
         self.density_factor = density_factor
         self.modulus_factor = modulus_factor
-        self.assoc: dict[int, object] = {}
-        for rel in model.by_type("IfcRelAssociatesMaterial"):
-            mat = rel.RelatingMaterial
-            for obj in (rel.RelatedObjects or ()) if mat is not None else ():
-                if obj is not None:  # a reference to a missing instance (damaged file)
-                    self.assoc.setdefault(obj.id(), mat)
+        # material selects found per object when first asked (through its HasAssociations
+        # inverse) rather than by listing every association of the model: facades and
+        # furniture carry most of them and are never asked about
+        self._assoc: dict[int, object | None] = {}
         self._props: dict[int, dict[str, float]] = {}
         for props in model.by_type("IfcMaterialProperties"):
             self._read_props(props)
@@ -214,13 +212,29 @@ class MaterialReader:
             return ([(sel.Material, 0.0)] if sel.Material is not None else []), None, False
         return [], None, False
 
+    def _assoc_of(self, obj) -> object | None:
+        """The material select associated with ``obj``: of its IfcRelAssociatesMaterial
+        relations with a material, the first in the file (lowest id); memoised."""
+        key = obj.id()
+        if key in self._assoc:
+            return self._assoc[key]
+        best = None
+        for rel in getattr(obj, "HasAssociations", None) or ():
+            if rel is None or not rel.is_a("IfcRelAssociatesMaterial") or rel.RelatingMaterial is None:
+                continue
+            if best is None or rel.id() < best.id():
+                best = rel
+        sel = best.RelatingMaterial if best is not None else None
+        self._assoc[key] = sel
+        return sel
+
     def for_element(self, element) -> MaterialInfo:
         """Material of an occurrence, else of its type (memoised per material select)."""
-        sel = self.assoc.get(element.id())
+        sel = self._assoc_of(element)
         if sel is None:
             t = self.types.get(element.id())
             if t is not None:
-                sel = self.assoc.get(t.id())
+                sel = self._assoc_of(t)
         key = sel.id() if sel is not None else 0
         hit = self._info.get(key)
         if hit is None:

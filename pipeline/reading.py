@@ -428,6 +428,11 @@ class _Reader:
         self.children: dict[int, list] = defaultdict(list)
         for rel in m.by_type("IfcRelAggregates"):
             par = attr(rel, "RelatingObject")
+            # A curtain wall's parts are its plates, members and panels (ISO 16739-1,
+            # IfcCurtainWall): never a storey's slab, wall or column, and often most of a
+            # tower's instances, so they are not listed.
+            if par is not None and par.is_a("IfcCurtainWall"):
+                continue
             for c in (attr(rel, "RelatedObjects") or ()) if par is not None else ():
                 if c is not None:
                     self.parent.setdefault(c.id(), par)
