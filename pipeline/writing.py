@@ -83,6 +83,7 @@ Measures the schema lacks
 from __future__ import annotations
 
 import base64
+import errno
 import hashlib
 import io
 import math
@@ -896,6 +897,8 @@ _BLOCK = 1 << 22
 _COMMENT_OPEN = re.compile(rb"/\*")
 _TAIL_MAX = 1 << 24  # bytes of a re-run's tail held in memory at most (see _tail_rewrite)
 _FAST_COPY = True  # tests switch it off to compare with the statement scanner
+_KERNEL_COPY = hasattr(os, "copy_file_range")  # tests switch it off to compare with the slices
+_NO_KERNEL_COPY = {errno.EXDEV, errno.ENOSYS, errno.EOPNOTSUPP, errno.EINVAL, errno.EBADF, errno.EPERM}
 
 
 class _Copier:
@@ -1013,13 +1016,34 @@ def _plain_insert(src: Path, out: BinaryIO, lines: list[str]) -> int | None:
                 return None
             eol = _ANY_EOL.search(mm[: min(len(mm), 1 << 16)])
             block = _insertion(mm[cut : cut + 256], lines, eol.group(0) if eol else None)
-            written = 0
-            for a in range(0, cut, _BLOCK):
-                written += out.write(mm[a : min(a + _BLOCK, cut)])
+            written = _copy_range(fh.fileno(), mm, out, 0, cut)
             written += out.write(block)
-            for a in range(cut, len(mm), _BLOCK):
-                written += out.write(mm[a : min(a + _BLOCK, len(mm))])
+            written += _copy_range(fh.fileno(), mm, out, cut, len(mm))
             return written
+
+
+def _copy_range(src_fd: int, mm, out: BinaryIO, start: int, stop: int) -> int:
+    """Copy source bytes [start, stop) to ``out``: in the kernel (``os.copy_file_range``, no
+    trip through Python's buffers) where the system offers it, else by slices of the map."""
+    done = 0
+    if _KERNEL_COPY and stop > start:
+        try:
+            out.flush()
+            dst_fd = out.fileno()
+            while start + done < stop:
+                k = os.copy_file_range(src_fd, dst_fd, stop - start - done, start + done)
+                if k <= 0:
+                    break
+                done += k
+        except (AttributeError, ValueError, io.UnsupportedOperation):
+            pass  # not a plain file stream: the slices below
+        except OSError as exc:
+            if exc.errno not in _NO_KERNEL_COPY:
+                raise  # a real failure (disk full, I/O error) is the caller's to report
+            # not offered for these files (other file system, kernel): the slices below
+    for a in range(start + done, stop, _BLOCK):
+        done += out.write(mm[a : min(a + _BLOCK, stop)])
+    return done
 
 
 def _data_statement(mm, before: int) -> int | None:

@@ -542,6 +542,7 @@ def test_failure_mid_write_leaves_nothing(models, tmp_path, monkeypatch, fast):
         return opened[-1]
 
     monkeypatch.setattr(writing, "_FAST_COPY", fast)
+    monkeypatch.setattr(writing, "_KERNEL_COPY", False)  # every byte through write()
     monkeypatch.setattr(writing, "_BLOCK", 512)  # several writes
     monkeypatch.setattr(writing.os, "fdopen", failing_fdopen)
     dst = tmp_path / "out" / "annotated.ifc"
@@ -550,6 +551,30 @@ def test_failure_mid_write_leaves_nothing(models, tmp_path, monkeypatch, fast):
     assert opened and opened[0].calls == 2  # it failed part-way, after a first write
     assert not dst.exists()
     assert list(dst.parent.iterdir()) == []  # no temporary file either
+
+
+@pytest.mark.skipif(not hasattr(os, "copy_file_range"), reason="no os.copy_file_range on this system")
+def test_disk_full_during_kernel_copy_leaves_nothing(models, tmp_path, monkeypatch):
+    import errno
+
+    src = models["ifc4_mm"]
+    calls = []
+    real = os.copy_file_range
+
+    def full(src_fd, dst_fd, count, offset_src=None, offset_dst=None):
+        calls.append(count)
+        if len(calls) == 2:  # the copy after the new lines
+            raise OSError(errno.ENOSPC, "No space left on device (simulated)")
+        return real(src_fd, dst_fd, count, offset_src)
+
+    monkeypatch.setattr(writing, "_KERNEL_COPY", True)
+    monkeypatch.setattr(writing.os, "copy_file_range", full)
+    dst = tmp_path / "out" / "annotated.ifc"
+    with pytest.raises(OSError, match="simulated"):
+        write_annotated(src, dst, sway_annotations(src))
+    assert len(calls) == 2
+    assert not dst.exists()
+    assert list(dst.parent.iterdir()) == []
 
 
 def test_failure_keeps_an_existing_destination(models, tmp_path, monkeypatch):
@@ -587,6 +612,11 @@ def test_plain_copy_and_statement_scanner_agree(models, tmp_path, monkeypatch, n
     monkeypatch.setattr(writing, "_BLOCK", 5)
     write_annotated(src, tmp_path / "fast5.ifc", anns)
     assert (tmp_path / "fast5.ifc").read_bytes() == (tmp_path / "ref.ifc").read_bytes()
+    # the fast path's copy in the kernel (os.copy_file_range) and by slices give the same bytes
+    for kernel in (False, True):
+        monkeypatch.setattr(writing, "_KERNEL_COPY", kernel and hasattr(writing.os, "copy_file_range"))
+        write_annotated(src, tmp_path / f"k{kernel}.ifc", anns)
+        assert (tmp_path / f"k{kernel}.ifc").read_bytes() == (tmp_path / "ref.ifc").read_bytes()
 
 
 def _awkward_copy(src: Path, dst: Path, eol: bytes) -> None:
