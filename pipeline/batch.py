@@ -7,7 +7,6 @@ flagged, else 0.
 """
 from __future__ import annotations
 
-import gc
 import os
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import asdict, dataclass
@@ -36,7 +35,7 @@ class BatchItem:
 def screen_one(model: str, settings_path: str | None, out_dir: str) -> BatchItem:
     """Screen one model and write its outputs; never raises for a bad model."""
     from .outputs import write_outputs
-    from .screening import screen_file
+    from .screening import end_one_shot, screen_file
     from .summary import build_summary
 
     try:
@@ -51,7 +50,7 @@ def screen_one(model: str, settings_path: str | None, out_dir: str) -> BatchItem
     except Exception as exc:  # an unattended batch must carry on with the other models
         return BatchItem(model, "error", error=f"internal error: {type(exc).__name__}: {exc}")
     finally:
-        gc.unfreeze()  # the worker moves on to the next model: let this one's objects go
+        end_one_shot()  # the worker moves on to the next model: let this one's objects go
     gov = summary.get("governing") or {}
     modes = summary.get("modes") or []
     ratio = None

@@ -16,7 +16,6 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_var, "1")
 
 import argparse  # noqa: E402
-import gc  # noqa: E402
 import sys  # noqa: E402
 from pathlib import Path
 
@@ -75,7 +74,29 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-def main(argv: list[str] | None = None) -> int:
+def run() -> None:
+    """The ``swayscreen`` command: :func:`main`, then leave the process at once.
+
+    Every output is closed (written atomically) before :func:`main` returns; what remains is
+    the interpreter tearing down the parsed model and the scientific libraries, which takes a
+    noticeable share of a short run on a large model and changes nothing. So the standard
+    streams are flushed and the process exits with :func:`os._exit`.
+    """
+    code = main(keep_until_exit=True)
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):  # a closed pipe: nothing more can be said
+            pass
+    os._exit(code)
+
+
+def main(argv: list[str] | None = None, *, keep_until_exit: bool = False) -> int:
+    """Parse ``argv`` and run the command; returns the exit code (0 pass, 1 flagged, 2 input).
+
+    ``keep_until_exit`` (used by :func:`run` only) leaves what the one-shot commands parked
+    (the open model, the frozen takeoff) for the process exit instead of freeing it here.
+    """
     for stream in (sys.stdout, sys.stderr):  # names from damaged files may not be encodable
         try:
             stream.reconfigure(errors="backslashreplace")
@@ -89,7 +110,10 @@ def main(argv: list[str] | None = None) -> int:
         try:
             return int(handler(args))
         finally:
-            gc.unfreeze()  # screen and demo freeze the takeoff after reading; callers in-process get it back
+            if not keep_until_exit:  # callers in the same process get their memory back
+                from .screening import end_one_shot
+
+                end_one_shot()
     except (InputError, PluginError) as exc:
         print(f"swayscreen: error: {exc}", file=sys.stderr)
         return EXIT_INPUT
@@ -107,4 +131,4 @@ def main(argv: list[str] | None = None) -> int:
 
 
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    run()

@@ -193,12 +193,15 @@ def screen_file(
 ) -> ScreeningRun:
     """Read one IFC file and screen every building in it.
 
-    ``freeze_gc=True`` (for one-shot processes: the CLI, batch workers) runs the read with the
+    ``freeze_gc=True`` (for one-shot work: the CLI, a batch item) runs the read with the
     cyclic garbage collector paused and then moves everything alive into its permanent
     generation (:func:`gc.freeze`): the takeoff's tens of thousands of objects live until the
-    process ends, and each later full collection would otherwise walk them again (about
-    50 ms per pass on the 160-storey benchmark tower). The caller calls :func:`gc.unfreeze`
-    when it moves on to another file in the same process.
+    work ends, and each later full collection would otherwise walk them again (about 50 ms
+    per pass on the 160-storey benchmark tower). It also parks the reader's open file until
+    then, so that dropping it after the write-back costs nothing; a process that exits right
+    after (``swayscreen`` itself, see :func:`.cli.run`) never pays for tearing the parsed
+    model down (about 0.1 s on that tower). The caller calls :func:`end_one_shot` when it
+    moves on in the same process.
 
     ``keep_source=True`` keeps the reader's open file on the run (:attr:`ScreeningRun.source`)
     for :func:`~.outputs.write_outputs`, which then writes back without a second parse and
@@ -218,6 +221,7 @@ def screen_file(
         if paused:
             gc.enable()
     if freeze_gc:
+        _PARKED.append(source)
         gc.freeze()
     timings["read"] = time.perf_counter() - t0
     if not keep_source:
@@ -225,6 +229,16 @@ def screen_file(
     buildings = tuple(screen_building(b, settings, ordered, true_north_deg=takeoff.true_north_deg)
                       for b in takeoff.buildings)
     return ScreeningRun(takeoff, settings, buildings, tuple(ordered), timings, source)
+
+
+_PARKED: list[Any] = []  # open files kept alive until end_one_shot (see screen_file)
+
+
+def end_one_shot() -> None:
+    """Undo what ``screen_file(..., freeze_gc=True)`` did to the process: collections may walk
+    the takeoff again, and the parked open files are let go (and freed now)."""
+    gc.unfreeze()
+    _PARKED.clear()
 
 
 def default_sections() -> dict[str, type]:

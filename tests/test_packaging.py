@@ -47,4 +47,4 @@ def test_builtin_plugins_registered_through_entry_points():
 
 
 def test_console_script_declared():
-    assert PYPROJECT["project"]["scripts"]["swayscreen"] == "swayscreen.pipeline.cli:main"
+    assert PYPROJECT["project"]["scripts"]["swayscreen"] == "swayscreen.pipeline.cli:run"
