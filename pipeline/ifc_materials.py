@@ -95,6 +95,8 @@ def _val(v):
         return None
 
 
+_UNSEEN = object()
+
 class MaterialReader:
     """Resolves element materials with one pass over the association relationships.
 
@@ -106,15 +108,26 @@ class MaterialReader:
     """
 
     def __init__(self, model, types: dict[int, object], scale: float,
-                 density_factor: float = 1.0, modulus_factor: float = 1.0) -> None:
+                 density_factor: float = 1.0, modulus_factor: float = 1.0, *, index_all: bool = True) -> None:
         self.types = types
         self.scale = scale
         self.density_factor = density_factor
         self.modulus_factor = modulus_factor
-        # material selects found per object when first asked (through its HasAssociations
-        # inverse) rather than by listing every association of the model: facades and
-        # furniture carry most of them and are never asked about
+        # Material selects by object. ``index_all``: list every association of the model
+        # once (cheapest when most associated objects are asked about, as in a structural
+        # model); otherwise found per object when first asked, through its HasAssociations
+        # inverse (cheapest in a large model, where facades and furniture carry most of the
+        # associations and are never asked about). Both take, of several associations with a
+        # material, the first in the file.
         self._assoc: dict[int, object | None] = {}
+        self._rel_material: dict[int, object | None] = {}  # relation id -> its material (None: not one)
+        self._indexed = index_all
+        if index_all:
+            for rel in sorted(model.by_type("IfcRelAssociatesMaterial"), key=lambda r: r.id()):
+                mat = attr(rel, "RelatingMaterial")
+                for obj in (attr(rel, "RelatedObjects") or ()) if mat is not None else ():
+                    if obj is not None:  # a reference to a missing instance (damaged file)
+                        self._assoc.setdefault(obj.id(), mat)
         self._props: dict[int, dict[str, float]] = {}
         for props in model.by_type("IfcMaterialProperties"):
             self._read_props(props)
@@ -216,15 +229,19 @@ class MaterialReader:
         """The material select associated with ``obj``: of its IfcRelAssociatesMaterial
         relations with a material, the first in the file (lowest id); memoised."""
         key = obj.id()
-        if key in self._assoc:
-            return self._assoc[key]
-        best = None
+        if self._indexed or key in self._assoc:
+            return self._assoc.get(key)
+        best_id, sel = -1, None
         for rel in getattr(obj, "HasAssociations", None) or ():
-            if rel is None or not rel.is_a("IfcRelAssociatesMaterial") or rel.RelatingMaterial is None:
+            if rel is None:
                 continue
-            if best is None or rel.id() < best.id():
-                best = rel
-        sel = best.RelatingMaterial if best is not None else None
+            rid = rel.id()
+            mat = self._rel_material.get(rid, _UNSEEN)
+            if mat is _UNSEEN:
+                mat = attr(rel, "RelatingMaterial") if rel.is_a("IfcRelAssociatesMaterial") else None
+                self._rel_material[rid] = mat
+            if mat is not None and (best_id < 0 or rid < best_id):
+                best_id, sel = rid, mat
         self._assoc[key] = sel
         return sel
 

@@ -890,7 +890,9 @@ class _Reader:
         self._sp_cache: dict[int, object] = {}
         self._opening_cache: dict[int, _Solid | None] = {}
         self._bodies: dict[tuple[int, ...], tuple[list[Prism], bool]] = {}
-        self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa)
+        # a large file is mostly facade and fit-out: find materials per element asked about
+        self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa,
+                                        index_all=self.path.stat().st_size <= _LAZY_ABOVE_BYTES)
 
         buildings = list(m.by_type("IfcBuilding"))
         bld_storeys: dict[int, list] = defaultdict(list)

@@ -77,3 +77,31 @@ def test_occurrence_material_before_type_material(ifc_builder, tmp_path):
     b.material([c], "Concrete C40/50")
     col = read_model(b.write(tmp_path / "occ.ifc")).buildings[0].storeys[0].columns[0]
     assert col.material.category == "concrete" and col.material.strength_class == "C40/50"
+
+
+def test_both_ways_of_finding_materials_agree(ifc_builder, tmp_path):
+    """Listing every association (small files) and asking each element's HasAssociations
+    (large files) give the same material for every element, with two on one element."""
+    import ifcopenshell
+    import ifcopenshell.guid
+
+    from swayscreen.pipeline.ifc_materials import MaterialReader
+
+    b = ifc_builder("IFC4", "m")
+    s = b.storey("L0", 0.0)
+    cols = [b.column(s, b.rect_profile(0.4, 0.4), (3.0 * i, 0), H, name=f"C{i}") for i in range(4)]
+    t = b.type_of(cols[2:], "IfcColumnType", "C-type", "COLUMN")
+    b.material([t], "Steel S460")
+    b.material(cols[:1], "Concrete C40/50")
+    f = b.f
+    f.createIfcRelAssociatesMaterial(ifcopenshell.guid.new(), None, None, None, [cols[1]], f.createIfcMaterial("Timber"))
+    f.createIfcRelAssociatesMaterial(ifcopenshell.guid.new(), None, None, None, [cols[1]], f.createIfcMaterial("Steel S355"))
+    m = ifcopenshell.open(str(b.write(tmp_path / "m.ifc")))
+    types = {o.id(): rel.RelatingType for rel in m.by_type("IfcRelDefinesByType") for o in rel.RelatedObjects}
+    found = {}
+    for index_all in (True, False):
+        r = MaterialReader(m, types, 1.0, index_all=index_all)
+        found[index_all] = [r.for_element(c).material for c in m.by_type("IfcColumn")]
+    assert found[True] == found[False]
+    names = sorted((c.Name, (mat.name if mat else None)) for c, mat in zip(m.by_type("IfcColumn"), found[True]))
+    assert names == [("C0", "Concrete C40/50"), ("C1", "Timber"), ("C2", "Steel S460"), ("C3", "Steel S460")]
