@@ -17,12 +17,11 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
 
 import argparse  # noqa: E402
 import sys  # noqa: E402
-from pathlib import Path
 
 from . import __version__
-from .errors import EXIT_FLAGGED, EXIT_INPUT, EXIT_PASS, InputError, PluginError
+from .errors import EXIT_INPUT, EXIT_PASS, InputError, PluginError
 
-__all__ = ["main", "build_parser"]
+__all__ = ["main", "run", "build_parser"]
 
 CAUTION = (
     "CAUTION: swayscreen gives a screening estimate, not a design. Results must be confirmed by a "

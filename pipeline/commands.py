@@ -6,7 +6,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from .errors import EXIT_FLAGGED, EXIT_INPUT, EXIT_PASS
+from .errors import EXIT_FLAGGED, EXIT_PASS
 
 __all__ = ["cmd_takeoff", "cmd_screen", "cmd_settings", "cmd_plugins", "cmd_demo", "cmd_batch"]
 

@@ -7,8 +7,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import pytest
-
 from swayscreen.pipeline.requirements import IDS_PATH, build_ids, check_requirements
 
 

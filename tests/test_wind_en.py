@@ -47,7 +47,6 @@ from swayscreen.plugins.wind_en import (  # noqa: E402
     en_along_response,
     en_peak_for_damping,
     k_x_factor,
-    mean_wind_speed,
     modal_equivalents,
     peak_factor,
     peak_velocity_pressure,
