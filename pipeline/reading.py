@@ -340,12 +340,15 @@ class _Pending:
 
 
 def _from_prisms(prisms: list[Prism], clipped: bool) -> _Solid:
-    if len(prisms) == 1:
+    if len(prisms) == 1:  # the common case, with the same arithmetic as the general one below
         p = prisms[0]
-        if p.vertical and len(p.profile.parts) == 1 and not p.profile.parts[0][1]:
-            fp = _Ring(prism_plan_parts(p)[0][0])
+        parts = p.profile.parts
+        if p.vertical and len(parts) == 1 and not parts[0][1]:
+            m = p.matrix
+            fp = _Ring(parts[0][0] @ m[:2, :2].T + m[:2, 3])
         else:
             fp = prism_footprint(p)
+        return _Solid(fp, p.zmin, p.zmax, 0.0 + p.volume_m3, p.vertical, clipped, prisms)
     else:
         fp = polygonal(shapely.union_all([prism_footprint(p) for p in prisms]))
     zr = [prism_zrange(p) for p in prisms]
