@@ -459,16 +459,22 @@ def _add_run(kg: np.ndarray, stick: StickModel, run: list[Segment]) -> None:
     flat = (cols[:, :, None] * (nloc + 1) + cols[:, None, :]).ravel()
     kl = np.bincount(flat, weights=contrib.ravel(), minlength=(nloc + 1) ** 2).reshape(nloc + 1, nloc + 1)
     kl = kl[:nloc, :nloc]
-    kqq, kqb, kbb = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
     # static condensation of the slopes (they carry no mass): K* = Kqq - Kqb Kbb^-1 Kbq
-    # Kbb couples only neighbouring nodes (2 slopes each): half-bandwidth 3, banded Cholesky
-    bw = min(3, kbb.shape[0] - 1)
-    ab = np.zeros((bw + 1, kbb.shape[0]))
-    for k in range(bw + 1):
-        ab[bw - k, k:] = np.diagonal(kbb, k)
-    kc = kqq - kqb @ solveh_banded(ab, kqb.T)
+    # Kbb couples only neighbouring nodes (2 slopes each): half-bandwidth 3
+    kc = _condensed(kl, nq, 3)
     lo, hi = 3 * floors[0], 3 * floors[-1] + 3  # the run's floors are consecutive
     kg[lo:hi, lo:hi] += 0.5 * (kc + kc.T)
+
+
+def _condensed(kl: np.ndarray, nq: int, half_bandwidth: int) -> np.ndarray:
+    """``kl`` with its freedoms after the first ``nq`` condensed out statically:
+    K* = Kqq - Kqx Kxx^-1 Kxq, Kxx solved by banded Cholesky (``half_bandwidth`` off-diagonals)."""
+    kqq, kqx, kxx = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
+    bw = min(half_bandwidth, kxx.shape[0] - 1)
+    ab = np.zeros((bw + 1, kxx.shape[0]))
+    for k in range(bw + 1):
+        ab[bw - k, k:] = np.diagonal(kxx, k)
+    return kqq - kqx @ solveh_banded(ab, kqx.T)
 
 
 def _add_warping_run(kg: np.ndarray, run: list[Segment]) -> None:
@@ -498,13 +504,8 @@ def _add_warping_run(kg: np.ndarray, run: list[Segment]) -> None:
         keep = [k for k, c in enumerate(local) if c is not None]
         cols = [local[k] for k in keep]
         kl[np.ix_(cols, cols)] += ke[np.ix_(keep, keep)]
-    kqq, kqw, kww = kl[:nq, :nq], kl[:nq, nq:], kl[nq:, nq:]
     # K* = Kqq - Kqw Kww^-1 Kwq; Kww is tridiagonal (one rate of twist per node)
-    bw = min(1, kww.shape[0] - 1)
-    ab = np.zeros((bw + 1, kww.shape[0]))
-    for k in range(bw + 1):
-        ab[bw - k, k:] = np.diagonal(kww, k)
-    kc = kqq - kqw @ solveh_banded(ab, kqw.T)
+    kc = _condensed(kl, nq, 1)
     idx = np.array([3 * f + 2 for f in floors])
     kg[np.ix_(idx, idx)] += 0.5 * (kc + kc.T)
 

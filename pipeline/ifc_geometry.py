@@ -71,13 +71,13 @@ MAX_BODY_FACES = 500_000
 MAX_CURVE_POINTS = 1_000_000
 """Most points in one curve (composite curves repeating a segment curve grow geometrically)."""
 _RAW_MAX = 1e15
-# Values closer to zero than this (in file units) read as exactly 0. No length, ratio or
-# angle of a building element is that small; such values come from damaged or generated
-# data, and subnormal numbers (below 2.2e-308) make GEOS's predicates fail in plan unions
-# (a TopologyException found by property-based tests).
-_RAW_TINY = 1e-100
 """Largest magnitude of any number read from the file, in file units, before unit
 conversion: keeps every square and product far from float overflow (1e30 << 1.8e308)."""
+_RAW_TINY = 1e-100
+"""Values closer to zero than this (in file units) read as exactly 0. No length, ratio or
+angle of a building element is that small; such values come from damaged or generated data,
+and subnormal numbers (below 2.2e-308) make GEOS's predicates fail in plan unions (a
+TopologyException found by property-based tests)."""
 VERTICAL_TOL = 1e-4
 """|1 - cos| below which an extrusion counts as vertical / a profile plane as horizontal (~0.8 deg)."""
 _SIN_TOL = math.sqrt(2 * VERTICAL_TOL)
@@ -320,6 +320,7 @@ class Geometry:
         self._axis: dict[int, np.ndarray] = {}
         self._placement: dict[int, np.ndarray] = {}
         self._mapped: dict[int, tuple[list[Prism], bool]] = {}
+        self._bodies: dict[tuple[int, ...], tuple[list[Prism], bool]] = {}
         self._profile: dict[int, Profile] = {}
         self._profile_by_value: dict[tuple, Profile] = {}
         self._curve: dict[int, np.ndarray] = {}
@@ -767,6 +768,18 @@ class Geometry:
             clipped = clipped or c
         return out, clipped
 
+    def body_prisms(self, items, base: np.ndarray) -> tuple[list[Prism], bool]:
+        """:meth:`items_prisms` for an element's body items, memoised: exports share the same
+        items among many elements (types, repeated members), so they are read once in object
+        coordinates and then placed by each element's ``base`` (:func:`place_prism`), as the
+        mapped representations of :meth:`_item` are."""
+        key = tuple(it.id() for it in items)
+        local = self._bodies.get(key)
+        if local is None:
+            local = self.items_prisms(items, _EYE4)
+            self._bodies[key] = local
+        return [place_prism(q, base) for q in local[0]], local[1]
+
     def _item(self, it, base: np.ndarray, depth: int) -> tuple[list[Prism], bool]:
         if depth > 16:
             raise NotParametric("representation nesting too deep")
@@ -975,9 +988,7 @@ def place_prism(p: Prism, base: np.ndarray) -> Prism:
         tz = float(base[2, 3])
         return Prism(p.profile, m, r @ p.direction, p.depth_m, p.clipped, True, p.zmin + tz, p.zmax + tz,
                      p.volume_m3)
-    v = r @ (p.direction * p.depth_m)
-    if p.depth_m == 0.0:  # no extrusion vector to rotate: the placed profile normal stands in
-        v = v * 0.0
+    v = r @ (p.direction * p.depth_m)  # zero for a zero depth: _prism then takes the placed normal
     return _prism(p.profile, m, float(v[0]), float(v[1]), float(v[2]), p.clipped)
 
 

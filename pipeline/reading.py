@@ -81,9 +81,8 @@ from shapely.geometry import MultiPolygon, Polygon
 from .core_settings import LevelSettings
 from .errors import InputError
 from .ifc_floors import Placed, SourceStorey, build_storeys
-from .ifc_geometry import (MAX_COORDINATE_M, MAX_ELEVATION_M, MAX_SIZE_M, Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body, place_prism,
+from .ifc_geometry import (MAX_COORDINATE_M, MAX_ELEVATION_M, MAX_SIZE_M, Geometry, MeshBody, NotParametric, Prism, Unsupported, attr, faces_body,
                            implausible_extent, mesh_body, polygonal, prism_footprint,
-                           prism_plan_parts,
                            prism_is_vertical, prism_vertices, prism_volume, prism_zrange)
 from .ifc_materials import MaterialReader
 from .ifc_units import read_context, read_units
@@ -197,12 +196,15 @@ def open_model(path: str | Path):
     return _open_with_log(Path(path))[0]
 
 
-_EYE4 = np.eye(4)
-
 # Above this size the file is opened lazily (instances parsed when first visited): on the
 # 160-storey benchmark tower (37 MB) that read faster and with less memory; on small files
 # (the 60-storey sample, 1 MB) the full parse is faster.
 _LAZY_ABOVE_BYTES = 8_000_000
+
+
+def _large(size_bytes: int) -> bool:
+    """A file opened lazily (and mostly other than structure: see the material lookup)."""
+    return size_bytes > _LAZY_ABOVE_BYTES
 
 
 def _open_with_log(p: Path):
@@ -215,7 +217,7 @@ def _open_with_log(p: Path):
     ifcopenshell.ifcopenshell_wrapper.set_log_format_text()
     ifcopenshell.get_log()  # drain messages of earlier files
     try:
-        if p.stat().st_size > _LAZY_ABOVE_BYTES:
+        if _large(p.stat().st_size):
             model = ifcopenshell.open(str(p), lazy=True)
         else:
             model = ifcopenshell.open(str(p))
@@ -348,9 +350,8 @@ def _from_prisms(prisms: list[Prism], clipped: bool) -> _Solid:
             fp = _Ring(parts[0][0] @ m[:2, :2].T + m[:2, 3])
         else:
             fp = prism_footprint(p)
-        return _Solid(fp, p.zmin, p.zmax, 0.0 + p.volume_m3, p.vertical, clipped, prisms)
-    else:
-        fp = polygonal(shapely.union_all([prism_footprint(p) for p in prisms]))
+        return _Solid(fp, p.zmin, p.zmax, p.volume_m3, p.vertical, clipped, prisms)
+    fp = polygonal(shapely.union_all([prism_footprint(p) for p in prisms]))
     zr = [prism_zrange(p) for p in prisms]
     return _Solid(fp, min(z[0] for z in zr), max(z[1] for z in zr), sum(prism_volume(p) for p in prisms),
                   all(prism_is_vertical(p) for p in prisms), clipped, prisms)
@@ -581,15 +582,7 @@ class _Reader:
         base = self.geo.placement(el.get_argument(5))
         items = body[0].get_argument(3) or ()
         try:
-            # Exports share representation items among many elements (types, repeated
-            # members): their prisms are read once in object coordinates, then placed.
-            key = tuple(it.id() for it in items)
-            local = self._bodies.get(key)
-            if local is None:
-                local = self.geo.items_prisms(items, _EYE4)
-                self._bodies[key] = local
-            prisms = [place_prism(q, base) for q in local[0]]
-            clipped = local[1]
+            prisms, clipped = self.geo.body_prisms(items, base)
             if not prisms:
                 raise NotParametric("empty body")
             solid = _from_prisms(prisms, clipped)
@@ -892,10 +885,9 @@ class _Reader:
         self._scan()
         self._sp_cache: dict[int, object] = {}
         self._opening_cache: dict[int, _Solid | None] = {}
-        self._bodies: dict[tuple[int, ...], tuple[list[Prism], bool]] = {}
         # a large file is mostly facade and fit-out: find materials per element asked about
         self.materials = MaterialReader(m, self.types, units.length_m, units.density_kg_m3, units.modulus_pa,
-                                        index_all=self.path.stat().st_size <= _LAZY_ABOVE_BYTES)
+                                        index_all=not _large(self.path.stat().st_size))
 
         buildings = list(m.by_type("IfcBuilding"))
         bld_storeys: dict[int, list] = defaultdict(list)

@@ -86,6 +86,14 @@ def screen(capsys, model, *extra, out: Path | None = None) -> Outcome:
     return Outcome(code, o, e, seconds, data)
 
 
+def append_instances(path: Path, instances: str, text: str | None = None) -> None:
+    """Write ``path`` back with raw ISO 10303-21 instance lines added at the end of its DATA
+    section (before the last ENDSEC;); ``text`` replaces the file's own text when given."""
+    text = path.read_text() if text is None else text
+    cut = text.rindex("ENDSEC;")
+    path.write_text(text[:cut] + instances + text[cut:])
+
+
 def building(b, storeys: int = 3):
     """A small valid building: per storey a slab, three walls and a column."""
     ss = []
@@ -150,8 +158,7 @@ def test_deep_placement_chain_is_one_line_and_quick(ifc_builder, tmp_path, capsy
                     for k in range(10_000))
     text = path.read_text().replace(f"IFCLOCALPLACEMENT(#{site_pl.id()},#{axis.id()});",
                                     f"IFCLOCALPLACEMENT(#{first + 9_999},#{axis.id()});")
-    cut = text.rindex("ENDSEC;")
-    path.write_text(text[:cut] + chain + text[cut:])
+    append_instances(path, chain, text)
     r = screen(capsys, path)
     assert r.code == 2 and "nests more than 256 levels deep" in r.err and "deep.ifc" in r.err
     assert r.seconds < 10
@@ -416,10 +423,7 @@ def _huge_points(ifc_builder, tmp_path, with_building: bool) -> Path:
     if with_building:
         b.building()
     p = b.write(tmp_path / "huge.ifc")
-    text = p.read_text()
-    cut = text.rindex("ENDSEC;")
-    points = "".join(f"#{100000 + k}=IFCCARTESIANPOINT(({k}.,{k % 97}.,0.));\n" for k in range(200_000))
-    p.write_text(text[:cut] + points + text[cut:])
+    append_instances(p, "".join(f"#{100000 + k}=IFCCARTESIANPOINT(({k}.,{k % 97}.,0.));\n" for k in range(200_000)))
     return p
 
 
@@ -447,9 +451,7 @@ def test_five_thousand_storeys_are_refused_before_the_elements(ifc_builder, tmp_
              for i in range(5000)]
     refs = ",".join(f"#{first + i}" for i in range(5000))
     lines.append(f"#{first + 5000}=IFCRELAGGREGATES('{ifcopenshell.guid.new()}',$,$,$,#{bld.id()},({refs}));\n")
-    text = path.read_text()
-    cut = text.rindex("ENDSEC;")
-    path.write_text(text[:cut] + "".join(lines) + text[cut:])
+    append_instances(path, "".join(lines))
     r = screen(capsys, path)
     assert r.code == 2 and "has 5002 storeys; more than 1000 cannot be screened" in r.err
     assert r.seconds < 20
@@ -470,9 +472,7 @@ def test_too_many_buildings_are_refused(ifc_builder, tmp_path, capsys):
                   f"#{sid}=IFCBUILDINGSTOREY('{ifcopenshell.guid.new()}',$,'G',$,$,$,$,$,.ELEMENT.,0.);\n",
                   f"#{sid + 1}=IFCRELAGGREGATES('{ifcopenshell.guid.new()}',$,$,$,#{bid},(#{sid}));\n"]
     lines.append(f"#{first + 900}=IFCRELAGGREGATES('{ifcopenshell.guid.new()}',$,$,$,#{site.id()},({','.join(blds)}));\n")
-    text = path.read_text()
-    cut = text.rindex("ENDSEC;")
-    path.write_text(text[:cut] + "".join(lines) + text[cut:])
+    append_instances(path, "".join(lines))
     r = screen(capsys, path)
     assert r.code == 2 and "251 buildings with storeys; more than 200 cannot be screened" in r.err
 
@@ -837,9 +837,7 @@ def test_a_floor_in_thousands_of_pieces_is_read_in_bounded_time(ifc_builder, tmp
         ids.append(f"#{n + 3}")
     lines.append(f"#{first + 20000}=IFCRELCONTAINEDINSPATIALSTRUCTURE('{ifcopenshell.guid.new()}',$,$,$,"
                  f"({','.join(ids)}),#{ss[1].id()});\n")
-    text = path.read_text()
-    cut = text.rindex("ENDSEC;")
-    path.write_text(text[:cut] + "".join(lines) + text[cut:])
+    append_instances(path, "".join(lines))
     r = screen(capsys, path)
     assert r.code in (0, 1)
     assert r.seconds < 25  # all pairs: about a minute on the test machine; indexed: a few seconds
