@@ -224,22 +224,22 @@ def _check_from(rows: list[ComfortRow]) -> Check | None:
     if not rows:
         return None
     gov = max(rows, key=lambda r: (r.ratio, r.value_mg))
+    parts: list[str] = []  # the cases behind a row repeat the same notes: keep each once
+    for part in gov.note.split("; "):
+        if part and part not in parts:
+            parts.append(part)
+    note = "; ".join(parts)
     notes = []
     if gov.at_corner:
         notes.append("resultant at a plate corner (translation and twist)")
     if gov.frequency_hz is not None:
         notes.append(f"limit at {gov.frequency_hz:.3f} Hz")
     if not gov.valid:
-        notes.append("outside the method's range: " + gov.note)
-    elif gov.note:
-        notes.append(gov.note)
-    parts: list[str] = []  # the cases behind a row repeat the same validity notes: keep each once
-    for n in notes:
-        for part in n.split("; "):
-            if part and part not in parts:
-                parts.append(part)
+        notes.append("outside the method's range: " + note)
+    elif note:
+        notes.append(note)
     return Check(gov.criterion, gov.method, gov.value_mg, gov.limit_mg, "mg", gov.value_mg <= gov.limit_mg,
-                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(parts), valid=gov.valid)
+                 gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(notes), valid=gov.valid)
 
 
 def comfort_assessment(results: list[AccelerationResult], corners: CornerResult | None, cs: ComfortSettings,

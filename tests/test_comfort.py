@@ -119,6 +119,21 @@ def test_invalid_method_result_is_noted() -> None:
     assert "outside the method's range" in fixed.note and not fixed.passes
 
 
+def test_validity_notes_shared_by_modes_are_said_once() -> None:
+    # Two modes' cases behind one row share a reason (the building's slenderness) and differ in
+    # another (their frequencies): the check names each reason once, after the range prefix.
+    common = "H/w = 6.4 above 6: wind-tunnel testing recommended"
+    res = result_of(acc_case(10.0, 0.0, 30.0, freq=0.143, valid=False, method="NBCC Commentary I",
+                             note=f"{common}; frequency 0.143 Hz below 0.25 Hz"),
+                    acc_case(10.0, 0.0, 20.0, freq=0.170, valid=False, method="NBCC Commentary I",
+                             note=f"{common}; frequency 0.170 Hz below 0.25 Hz"))
+    checks, _ = comfort_assessment([res], None, ComfortSettings(), "residential")
+    fixed = next(c for c in checks if c.criterion.startswith("10-year"))
+    assert fixed.note.count("H/w = 6.4") == 1
+    assert fixed.note.startswith(f"outside the method's range: {common}")
+    assert "0.143 Hz below" in fixed.note and "0.170 Hz below" in fixed.note
+
+
 def test_occupancy_resolution() -> None:
     cs = ComfortSettings()
     hotel_top = make_tower(n=5, usage="hotel", top_usage="plant")
