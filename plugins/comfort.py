@@ -195,7 +195,9 @@ def _rows_for(res: AccelerationResult, corners: CornerResult | None, cs: Comfort
             by_dir.setdefault(case.direction_deg, []).append(case)
         for direction, cases in by_dir.items():
             valid = all(c.valid for c in cases)
-            note = "; ".join(sorted({c.note for c in cases if c.note}))
+            # the cases (modes) behind a row repeat the same reasons: each part once
+            note = "; ".join(dict.fromkeys(part for n in sorted({c.note for c in cases if c.note})
+                                           for part in n.split("; ") if part))
             # candidates: (value, limit, frequency, at_corner)
             cands = []
             for c in cases:
@@ -224,20 +226,15 @@ def _check_from(rows: list[ComfortRow]) -> Check | None:
     if not rows:
         return None
     gov = max(rows, key=lambda r: (r.ratio, r.value_mg))
-    parts: list[str] = []  # the cases behind a row repeat the same notes: keep each once
-    for part in gov.note.split("; "):
-        if part and part not in parts:
-            parts.append(part)
-    note = "; ".join(parts)
     notes = []
     if gov.at_corner:
         notes.append("resultant at a plate corner (translation and twist)")
     if gov.frequency_hz is not None:
         notes.append(f"limit at {gov.frequency_hz:.3f} Hz")
     if not gov.valid:
-        notes.append("outside the method's range: " + note)
-    elif note:
-        notes.append(note)
+        notes.append("outside the method's range: " + gov.note)
+    elif gov.note:
+        notes.append(gov.note)
     return Check(gov.criterion, gov.method, gov.value_mg, gov.limit_mg, "mg", gov.value_mg <= gov.limit_mg,
                  gov.return_period_yr, gov.direction_deg, gov.floor, "; ".join(notes), valid=gov.valid)
 
