@@ -1,7 +1,6 @@
-#!/usr/bin/env python3
 """Probe: how fast could a reader that follows references in the file's bytes be?
 
-    python benchmarks/byte_index_probe.py [MODEL.ifc] [--runs 25]
+Timed by ``python benchmarks/read_ratio.py --probe [MODEL.ifc ...]``.
 
 Not part of swayscreen, and not a reader: a measurement behind a design decision recorded in
 DEVELOPERS.md (why the reader stays on ifcopenshell's entities although they cannot meet the
@@ -16,15 +15,13 @@ issue-2 small-file target). It does the least such a design would do before any 
    the items of its 'Body' representation, and its containing storey;
 4. group elements whose body and plan placement repeat (a tower's typical floors).
 
-It prints the time against a full ``ifcopenshell.open``, best of ``--runs``. The takeoff would
+``read_ratio.py`` gives its time against a full ``ifcopenshell.open``. The takeoff would
 still need each group's geometry, materials, storeys and the assembly step that
 ``read_ratio.py --floor`` times (about 0.5x the open on the 60-storey sample).
 """
 from __future__ import annotations
 
-import argparse
 import re
-import time
 from pathlib import Path
 
 import numpy as np
@@ -104,34 +101,3 @@ def probe(path: Path) -> tuple[list[tuple], int]:
         g = groups.setdefault(key, len(groups))
         out.append((gid.decode(), name.decode() if name else "", g, float(w[2, 3]), storey_of.get(eid)))
     return out, len(groups)
-
-
-def main(argv: list[str] | None = None) -> int:
-    import ifcopenshell
-
-    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    p.add_argument("model", nargs="?", type=Path)
-    p.add_argument("--runs", type=int, default=25)
-    a = p.parse_args(argv)
-    if a.model is None:
-        from swayscreen.sample_models import sample_path
-
-        a.model = sample_path("residential_tower_60.ifc")
-    try:
-        elements, n_groups = probe(a.model)
-    except Refused as why:
-        print(f"refused: {why}")
-        return 2
-    best = {"open": 1e9, "probe": 1e9}
-    for _ in range(a.runs):
-        for key, fn in (("open", lambda: ifcopenshell.open(str(a.model))), ("probe", lambda: probe(a.model))):
-            t = time.perf_counter()
-            fn()
-            best[key] = min(best[key], time.perf_counter() - t)
-    print(f"{a.model.name}: {len(elements)} elements in {n_groups} groups; open {best['open']:.4f} s, "
-          f"probe {best['probe']:.4f} s = {best['probe'] / best['open']:.2f}x open (best of {a.runs})")
-    return 0
-
-
-if __name__ == "__main__":
-    raise SystemExit(main())

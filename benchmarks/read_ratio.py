@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Time ``read_model`` against ``ifcopenshell.open`` on one file, in one process.
 
-    python benchmarks/read_ratio.py [MODEL.ifc ...] [--runs 15] [--floor]
+    python benchmarks/read_ratio.py [MODEL.ifc ...] [--runs 15] [--floor] [--probe]
 
 Default model: the bundled 60-storey sample. Both calls run alternately ``--runs`` times after
 one warm-up each (imports and first-call costs excluded); the best of each is reported with
@@ -18,6 +18,9 @@ same file, whatever its own arithmetic (see :func:`entity_floor` and :func:`asse
   (the reader's last step, with no IFC access at all).
 
 ``floor = (visit + assemble) / open`` is the smallest read ratio that design can reach.
+
+``--probe`` also times :func:`byte_index_probe.probe`: the same references followed in the
+file's bytes instead of through entities (a probe of another design, not a reader).
 """
 from __future__ import annotations
 
@@ -111,7 +114,8 @@ def assembly_floor(path: Path):
     return run
 
 
-def measure(path: Path, runs: int, floor: bool = False) -> dict[str, float]:
+def measure(path: Path, runs: int, floor: bool = False, probe=None) -> dict[str, float]:
+    """Best times of open and read (and of the floor steps, and of ``probe(path)`` when given)."""
     import ifcopenshell
 
     from swayscreen.pipeline.reading import read_model
@@ -120,6 +124,8 @@ def measure(path: Path, runs: int, floor: bool = False) -> dict[str, float]:
     if floor:
         fns["visit"] = lambda: entity_floor(path)
         fns["assemble"] = assembly_floor(path)
+    if probe is not None:
+        fns["probe"] = lambda: probe(path)
     return _best(fns, runs)
 
 
@@ -129,14 +135,23 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--runs", type=int, default=15)
     p.add_argument("--floor", action="store_true",
                    help="also time the least an entity-based reader must do (see the module docstring)")
+    p.add_argument("--probe", action="store_true", help="also time the references followed in the file's bytes")
     a = p.parse_args(argv)
     if not a.models:
         from swayscreen.sample_models import sample_path
 
         a.models = [sample_path("residential_tower_60.ifc")]
     print(f"{'model':<32} {'MB':>6} {'open s':>8} {'read s':>8} {'ratio':>6}   (best of {a.runs}; wall | CPU)")
+    if a.probe:
+        from byte_index_probe import Refused, probe  # beside this script
     for m in a.models:
-        b = measure(m, a.runs, a.floor)
+        if a.probe:
+            try:
+                elements, n_groups = probe(m)
+            except Refused as why:
+                print(f"{m.name}: probe refused ({why})")
+                continue
+        b = measure(m, a.runs, a.floor, probe if a.probe else None)
         mb = m.stat().st_size / 1e6
         for clock in ("wall", "cpu"):
             o, r = b[f"open_{clock}"], b[f"read_{clock}"]
@@ -146,6 +161,11 @@ def main(argv: list[str] | None = None) -> int:
                 o, v, s = b[f"open_{clock}"], b[f"visit_{clock}"], b[f"assemble_{clock}"]
                 print(f"  floor ({clock}): visit {v:.4f} s ({v / o:.2f}x open) + assemble {s:.4f} s "
                       f"({s / o:.2f}x) = {(v + s) / o:.2f}x open")
+        if a.probe:
+            for clock in ("wall", "cpu"):
+                o, q = b[f"open_{clock}"], b[f"probe_{clock}"]
+                print(f"  byte probe ({clock}): {len(elements)} elements in {n_groups} groups, {q:.4f} s "
+                      f"({q / o:.2f}x open)")
     return 0
 
 
